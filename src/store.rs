@@ -1,0 +1,178 @@
+//! The store: SQLite through sqlx, behind a narrow set of named async
+//! functions (no SQL outside this module).
+//!
+//! The database runs in WAL mode with `synchronous=FULL` (a field laptop
+//! loses power), foreign keys on and a busy timeout; migrations are embedded
+//! in the binary and run on open. SQLite-only features stay behind these
+//! functions so that a shared PostgreSQL server remains possible.
+
+use std::path::Path;
+use std::str::FromStr;
+use std::time::Duration;
+
+use sqlx::migrate::Migrator;
+use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
+use sqlx::SqlitePool;
+
+/// Migrations, embedded at compile time from `migrations/`.
+pub static MIGRATOR: Migrator = sqlx::migrate!("./migrations");
+
+/// Why the store failed.
+#[derive(Debug, thiserror::Error)]
+pub enum StoreError {
+    /// The folder for the database file could not be created.
+    #[error("cannot create the folder {path} for the database: {source}")]
+    Folder {
+        /// The folder.
+        path: String,
+        /// The I/O error.
+        source: std::io::Error,
+    },
+    /// SQLite or sqlx failed.
+    #[error("database error while {context}: {source}")]
+    Sqlx {
+        /// What the store was doing.
+        context: &'static str,
+        /// The sqlx error.
+        source: sqlx::Error,
+    },
+    /// A migration failed.
+    #[error("database migration failed: {0}")]
+    Migrate(#[from] sqlx::migrate::MigrateError),
+}
+
+trait Context<T> {
+    fn context(self, what: &'static str) -> Result<T, StoreError>;
+}
+
+impl<T> Context<T> for Result<T, sqlx::Error> {
+    fn context(self, what: &'static str) -> Result<T, StoreError> {
+        self.map_err(|source| StoreError::Sqlx { context: what, source })
+    }
+}
+
+/// Opens (creating it and its folder when missing) and migrates the
+/// database at `path`.
+#[tracing::instrument]
+pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
+    if let Some(dir) = path.parent()
+        && !dir.as_os_str().is_empty()
+    {
+        std::fs::create_dir_all(dir).map_err(|source| StoreError::Folder {
+            path: dir.display().to_string(),
+            source,
+        })?;
+    }
+    let opts = SqliteConnectOptions::from_str("sqlite:")
+        .context("reading connect options")?
+        .filename(path)
+        .create_if_missing(true)
+        .journal_mode(SqliteJournalMode::Wal)
+        .synchronous(SqliteSynchronous::Full)
+        .busy_timeout(Duration::from_secs(10))
+        .foreign_keys(true);
+    let pool = SqlitePoolOptions::new()
+        .max_connections(8)
+        .connect_with(opts)
+        .await
+        .context("opening the database")?;
+    MIGRATOR.run(&pool).await?;
+    Ok(pool)
+}
+
+/// True when the database answers a trivial query.
+#[tracing::instrument(skip(pool))]
+pub async fn ping(pool: &SqlitePool) -> Result<(), StoreError> {
+    sqlx::query("SELECT 1")
+        .execute(pool)
+        .await
+        .context("pinging")?;
+    Ok(())
+}
+
+/// Records the property-base version this service runs with, returning the
+/// one recorded before (if any).
+#[tracing::instrument(skip(pool))]
+pub async fn note_base_version(
+    pool: &SqlitePool,
+    version: &str,
+) -> Result<Option<String>, StoreError> {
+    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let previous: Option<String> =
+        sqlx::query_scalar("SELECT value FROM meta WHERE key = 'base_version'")
+            .fetch_optional(&mut *tx)
+            .await
+            .context("reading the base version")?;
+    sqlx::query(
+        "INSERT INTO meta (key, value) VALUES ('base_version', ?1)
+         ON CONFLICT (key) DO UPDATE SET value = excluded.value",
+    )
+    .bind(version)
+    .execute(&mut *tx)
+    .await
+    .context("recording the base version")?;
+    tx.commit().await.context("committing")?;
+    Ok(previous)
+}
+
+/// Reads one pragma as text, for checks of how the database is opened.
+#[tracing::instrument(skip(pool))]
+pub async fn pragma(pool: &SqlitePool, name: Pragma) -> Result<String, StoreError> {
+    let sql = match name {
+        Pragma::JournalMode => "PRAGMA journal_mode",
+        Pragma::Synchronous => "PRAGMA synchronous",
+        Pragma::ForeignKeys => "PRAGMA foreign_keys",
+    };
+    let v: sqlx::sqlite::SqliteRow = sqlx::query(sql)
+        .fetch_one(pool)
+        .await
+        .context("reading a pragma")?;
+    use sqlx::Row;
+    let s = v
+        .try_get::<String, _>(0)
+        .or_else(|_| v.try_get::<i64, _>(0).map(|i| i.to_string()))
+        .context("decoding a pragma")?;
+    Ok(s)
+}
+
+/// Pragmas [`pragma`] can read.
+#[derive(Clone, Copy, Debug)]
+pub enum Pragma {
+    /// `journal_mode` (expect `wal`).
+    JournalMode,
+    /// `synchronous` (expect 2, FULL).
+    Synchronous,
+    /// `foreign_keys` (expect 1).
+    ForeignKeys,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[tokio::test]
+    async fn opening_creates_the_folder_and_file_and_sets_durability() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = dir.path().join("nested/deeper/basal.sqlite");
+        let pool = open(&path).await.expect("opens");
+        assert!(path.exists());
+        assert_eq!(pragma(&pool, Pragma::JournalMode).await.expect("jm"), "wal");
+        assert_eq!(pragma(&pool, Pragma::Synchronous).await.expect("sync"), "2");
+        assert_eq!(pragma(&pool, Pragma::ForeignKeys).await.expect("fk"), "1");
+        ping(&pool).await.expect("ping");
+    }
+
+    #[tokio::test]
+    async fn the_base_version_is_remembered_across_opens() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = dir.path().join("basal.sqlite");
+        let pool = open(&path).await.expect("opens");
+        assert_eq!(note_base_version(&pool, "v1").await.expect("note"), None);
+        pool.close().await;
+        let pool = open(&path).await.expect("reopens");
+        assert_eq!(
+            note_base_version(&pool, "v2").await.expect("note"),
+            Some("v1".to_string())
+        );
+    }
+}

@@ -1,0 +1,79 @@
+//! The error type of the web edge and its HTTP responses.
+//!
+//! API errors always have the contract's shape
+//! `{"error": {"field": "...", "message": "..."}}`; 5xx bodies never show
+//! internals (the cause is logged instead).
+
+use axum::Json;
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
+use serde::Serialize;
+
+use crate::engine::input::InputError;
+use crate::engine::FieldError;
+
+/// Result of a web handler.
+pub type Result<T, E = ApiError> = std::result::Result<T, E>;
+
+/// An error answered to an API client.
+#[derive(Debug, thiserror::Error)]
+pub enum ApiError {
+    /// 400: the body is not well-formed JSON.
+    #[error("bad request: {0}")]
+    BadRequest(FieldError),
+    /// 404: no such resource.
+    #[error("not found: {0}")]
+    NotFound(FieldError),
+    /// 413: the body is over the limit.
+    #[error("payload too large")]
+    TooLarge,
+    /// 415: not `application/json`.
+    #[error("unsupported media type")]
+    UnsupportedMediaType,
+    /// 422: well-formed but not allowed.
+    #[error("unprocessable: {0}")]
+    Invalid(FieldError),
+    /// 500: a fault of ours; the cause is logged, never shown.
+    #[error("internal error: {0}")]
+    Internal(String),
+}
+
+impl From<InputError> for ApiError {
+    fn from(e: InputError) -> Self {
+        match e {
+            InputError::Malformed(f) => ApiError::BadRequest(f),
+            InputError::Invalid(f) => ApiError::Invalid(f),
+        }
+    }
+}
+
+#[derive(Serialize)]
+struct Body<'a> {
+    error: &'a FieldError,
+}
+
+impl IntoResponse for ApiError {
+    fn into_response(self) -> Response {
+        let (status, err) = match self {
+            ApiError::BadRequest(f) => (StatusCode::BAD_REQUEST, f),
+            ApiError::NotFound(f) => (StatusCode::NOT_FOUND, f),
+            ApiError::TooLarge => (
+                StatusCode::PAYLOAD_TOO_LARGE,
+                FieldError::new("", format!("the body is larger than {} KiB; send at most that", super::api::BODY_LIMIT / 1024)),
+            ),
+            ApiError::UnsupportedMediaType => (
+                StatusCode::UNSUPPORTED_MEDIA_TYPE,
+                FieldError::new("", "send the body as Content-Type: application/json"),
+            ),
+            ApiError::Invalid(f) => (StatusCode::UNPROCESSABLE_ENTITY, f),
+            ApiError::Internal(cause) => {
+                tracing::error!(error.cause = %cause, "internal error");
+                (
+                    StatusCode::INTERNAL_SERVER_ERROR,
+                    FieldError::new("", "something went wrong on the server; nothing was changed. Try again, and report it if it persists."),
+                )
+            }
+        };
+        (status, Json(Body { error: &err })).into_response()
+    }
+}

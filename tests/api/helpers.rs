@@ -1,0 +1,79 @@
+//! Test harness: a fresh app over a temporary, migrated SQLite file.
+
+use std::sync::Arc;
+
+use axum::Router;
+use axum::body::Body;
+use axum::http::{Request, StatusCode, header};
+use basal::cli::Config;
+use basal::engine::Engine;
+use basal::web::{AppState, app};
+use http_body_util::BodyExt;
+use tower::ServiceExt;
+
+/// An app and the temporary folder that holds its database.
+pub struct TestApp {
+    pub router: Router,
+    pub _dir: tempfile::TempDir,
+}
+
+/// A response, collected.
+pub struct Reply {
+    pub status: StatusCode,
+    pub headers: axum::http::HeaderMap,
+    pub body: Vec<u8>,
+}
+
+impl Reply {
+    pub fn json(&self) -> serde_json::Value {
+        serde_json::from_slice(&self.body)
+            .unwrap_or_else(|e| panic!("not JSON ({e}): {}", String::from_utf8_lossy(&self.body)))
+    }
+    pub fn text(&self) -> String {
+        String::from_utf8_lossy(&self.body).into_owned()
+    }
+    /// Asserts the contract's error shape and returns (field, message).
+    pub fn error(&self) -> (String, String) {
+        let v = self.json();
+        let e = v.get("error").unwrap_or_else(|| panic!("no error object: {v}"));
+        let field = e["field"].as_str().unwrap_or_else(|| panic!("no field: {v}")).to_string();
+        let message = e["message"].as_str().unwrap_or_else(|| panic!("no message: {v}")).to_string();
+        assert!(!message.is_empty(), "empty message: {v}");
+        (field, message)
+    }
+}
+
+impl TestApp {
+    pub async fn new() -> TestApp {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let db_path = dir.path().join("basal.sqlite");
+        let db = basal::store::open(&db_path).await.expect("open db");
+        let config = Config { listen: "127.0.0.1:0".parse().expect("addr"), db: db_path };
+        let state = AppState { db, engine: Engine::builtin(), config: Arc::new(config) };
+        TestApp { router: app(state), _dir: dir }
+    }
+
+    pub async fn send(&self, req: Request<Body>) -> Reply {
+        let resp = self.router.clone().oneshot(req).await.expect("infallible");
+        let status = resp.status();
+        let headers = resp.headers().clone();
+        let body = resp.into_body().collect().await.expect("body").to_bytes().to_vec();
+        Reply { status, headers, body }
+    }
+
+    pub async fn get(&self, uri: &str) -> Reply {
+        self.send(Request::get(uri).body(Body::empty()).expect("request")).await
+    }
+
+    pub async fn post_raw(&self, uri: &str, content_type: Option<&str>, body: impl Into<Body>) -> Reply {
+        let mut b = Request::post(uri);
+        if let Some(ct) = content_type {
+            b = b.header(header::CONTENT_TYPE, ct);
+        }
+        self.send(b.body(body.into()).expect("request")).await
+    }
+
+    pub async fn identify(&self, body: &str) -> Reply {
+        self.post_raw("/api/v1/identify", Some("application/json"), body.to_string()).await
+    }
+}
