@@ -240,9 +240,12 @@ fn the_leaders_explain_themselves() {
     let id = identify(classics()[2].1.clone());
     let top = &id.candidates[0];
     assert!(top.agrees.contains(&Property::Tenacity));
-    // Muscovite conflicts on tenacity (elastic, not flexible) and colour.
+    // Muscovite's flakes spring back and its streak is white: a bent green
+    // flake with a greenish streak counts against it, and says so.
     let musc = id.candidates.iter().find(|c| c.id == "muscovite").expect("muscovite");
-    assert!(musc.conflicts.contains(&Property::Tenacity) || musc.conflicts.contains(&Property::Colour), "{musc:?}");
+    assert!(musc.conflicts.contains(&Property::Streak), "{musc:?}");
+    let tenacity = musc.evidence.iter().find(|e| e.property == Property::Tenacity).expect("scored");
+    assert!(tenacity.bits < 0.0, "{musc:?}");
     let sep = id.separating_test.expect("a test remains");
     assert_eq!(sep.first, top.id);
     assert!(sep.expected_gain_bits > 0.0);

@@ -7,6 +7,7 @@
 //! not allowed ([`InputError::Invalid`], HTTP 422). This module only
 //! classifies; the status codes are the web layer's business.
 
+use serde::Deserialize;
 use serde::de::DeserializeOwned;
 use serde_path_to_error::Segment;
 
@@ -48,42 +49,35 @@ pub fn object_from_json<T: DeserializeOwned>(
     bytes: &[u8],
     describe: fn(&str) -> String,
 ) -> Result<T, InputError> {
+    // Well-formedness first, on its own: serde_json reports some wrong
+    // types (a number where an enum goes) as syntax errors, so the typed
+    // pass below cannot tell the two apart by itself.
+    if let Err(e) = std::str::from_utf8(bytes) {
+        return Err(InputError::Malformed(FieldError::new(
+            "",
+            format!("the body is not valid UTF-8 ({e}); send UTF-8 JSON"),
+        )));
+    }
+    let mut check = serde_json::Deserializer::from_slice(bytes);
+    if let Err(e) = serde::de::IgnoredAny::deserialize(&mut check).and_then(|_| check.end()) {
+        return Err(InputError::Malformed(FieldError::new(
+            "",
+            format!("the body is not well-formed JSON ({e}); send one JSON object"),
+        )));
+    }
     let first = bytes.iter().find(|b| !b.is_ascii_whitespace()).copied();
     if first != Some(b'{') {
-        // Tell a body that is not JSON at all from JSON that is not an object.
-        return match serde_json::from_slice::<serde::de::IgnoredAny>(bytes) {
-            Err(e) if !is_data_error(&e) => Err(InputError::Malformed(FieldError::new(
-                "",
-                format!("the body is not well-formed JSON ({e}); send one JSON object"),
-            ))),
-            _ => Err(InputError::Invalid(FieldError::new(
-                "",
-                format!("the body must be a JSON object: {}", describe("")),
-            ))),
-        };
+        return Err(InputError::Invalid(FieldError::new(
+            "",
+            format!("the body must be a JSON object: {}", describe("")),
+        )));
     }
     let mut de = serde_json::Deserializer::from_slice(bytes);
     let value: T = match serde_path_to_error::deserialize(&mut de) {
         Ok(v) => v,
         Err(err) => return Err(classify(err, describe)),
     };
-    if let Err(e) = de.end() {
-        return Err(InputError::Malformed(FieldError::new(
-            "",
-            format!("unexpected text after the JSON object ({e}); send exactly one object"),
-        )));
-    }
     Ok(value)
-}
-
-fn is_data_error(e: &serde_json::Error) -> bool {
-    use serde_json::error::Category;
-    match e.classify() {
-        Category::Data => true,
-        // A number too large for f64 is well-formed JSON but not finite.
-        Category::Syntax => e.to_string().starts_with("number out of range"),
-        Category::Io | Category::Eof => false,
-    }
 }
 
 /// Dotted path from the deserializer's segments, `hardness.min`, `colour[1]`.
@@ -141,17 +135,11 @@ fn classify(
     describe: fn(&str) -> String,
 ) -> InputError {
     let path = dotted(err.path());
-    let inner = err.into_inner();
-    if !is_data_error(&inner) {
-        return InputError::Malformed(FieldError::new(
-            "",
-            format!("the body is not well-formed JSON ({inner})"),
-        ));
-    }
-    let msg = inner.to_string();
+    let msg = err.into_inner().to_string();
     // serde_json appends " at line L column C"; the path says where instead.
     let msg = msg.split(" at line ").next().unwrap_or(&msg).to_string();
     if msg.starts_with("number out of range") {
+        // Well-formed JSON, but not a finite f64.
         return InputError::Invalid(FieldError::new(
             path.clone(),
             format!("the number is too large to be finite; expected {}", describe(&shape_of(&path))),

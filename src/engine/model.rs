@@ -31,19 +31,27 @@ pub const OCCASIONAL_WEIGHT: f64 = 0.25;
 pub const OUTSIDE_PRIOR: f64 = 0.03;
 /// Chance that a hardness reading is grossly wrong (a smear taken for a
 /// scratch, the tool slipping onto a harder grain): common practice.
-pub const HARDNESS_GROSS_ERROR: f64 = 0.05;
+pub const HARDNESS_GROSS_ERROR: f64 = 0.1;
 /// Chance that a specific gravity is grossly wrong (bubbles, a porous or
 /// mixed piece): common practice.
-pub const SG_GROSS_ERROR: f64 = 0.05;
+pub const SG_GROSS_ERROR: f64 = 0.1;
 /// Half-width of the interval a directly given specific gravity stands for
 /// (read to one decimal place).
 pub const SG_VALUE_HALF_WIDTH: f64 = 0.05;
+/// How well the outside entry scores an observation, as a fraction of what
+/// a matching entry scores. Below 1, so that a specimen that fits an entry
+/// gains on the outside entry with every observation; near 1, so that two
+/// or three sharp conflicts (each a factor of 20 to 50) are enough to hand
+/// the specimen to the outside entry. Tuned on the specimen suite.
+pub const OUTSIDE_MATCH_FACTOR: f64 = 0.5;
 /// Agreement threshold in bits against the outside model: above it an
-/// observation counts as raising the candidate.
-pub const AGREE_BITS: f64 = -1.0;
-/// Conflict threshold in bits: below it an observation counts as lowering
-/// the candidate (the value is neither typical nor occasional for it).
-pub const CONFLICT_BITS: f64 = -3.0;
+/// observation counts as raising the candidate (it scores at least half of
+/// a typical match).
+pub const AGREE_BITS: f64 = 0.0;
+/// Conflict threshold in bits against the outside model: below it an
+/// observation counts as lowering the candidate (under a tenth of a typical
+/// match: the value is neither typical nor occasional for it).
+pub const CONFLICT_BITS: f64 = -2.32;
 
 /// Observer-error rate per property: how often a careful observer reports a
 /// value the mineral does not show. Streak and a magnet are read reliably,
@@ -153,26 +161,24 @@ fn median(mut xs: Vec<f64>) -> f64 {
     }
 }
 
-/// Hardness likelihood of an observed interval for an entry range.
+/// Spread of a grossly wrong hardness reading (one standard deviation,
+/// Mohs): the heavy tail of the reading error.
+pub const HARDNESS_GROSS_SIGMA: f64 = 1.5;
+/// Spread of a grossly wrong specific gravity (a piece with matrix, pores or
+/// bubbles): the heavy tail of the weighing error.
+pub const SG_GROSS_SIGMA: f64 = 0.5;
+
+/// Hardness likelihood of an observed interval for an entry range: a
+/// careful reading mixed with a grossly wrong one, both in closed form.
 pub(crate) fn hardness_likelihood(obs: Interval, lo: f64, hi: f64) -> f64 {
-    let unif = {
-        let a = obs.lo.max(1.0);
-        let b = obs.hi.min(10.0);
-        ((b - a).max(0.0) / 9.0).max(0.0)
-    };
     (1.0 - HARDNESS_GROSS_ERROR) * measure::interval_probability(obs, lo, hi, HARDNESS_SIGMA)
-        + HARDNESS_GROSS_ERROR * unif
+        + HARDNESS_GROSS_ERROR * measure::interval_probability(obs, lo, hi, HARDNESS_GROSS_SIGMA)
 }
 
 /// Specific-gravity likelihood of an observed interval for an entry range.
 pub(crate) fn sg_likelihood(obs: Interval, sigma: f64, lo: f64, hi: f64) -> f64 {
-    let unif = {
-        let a = obs.lo.max(1.0);
-        let b = obs.hi.min(8.0);
-        (b - a).max(0.0) / 7.0
-    };
     (1.0 - SG_GROSS_ERROR) * measure::interval_probability(obs, lo, hi, sigma)
-        + SG_GROSS_ERROR * unif
+        + SG_GROSS_ERROR * measure::interval_probability(obs, lo, hi, SG_GROSS_SIGMA.max(sigma))
 }
 
 fn row_for(p: Property, e: &Entry) -> Vec<f64> {
@@ -363,13 +369,22 @@ impl Engine {
         let t = self.table(p);
         match s {
             Scored::Cat(idx) => {
+                // Several colours describe one specimen together: the
+                // geometric mean asks the entry to explain every one of them
+                // without penalising a longer description.
                 let n = idx.len().max(1) as f64;
                 let per_entry = t
                     .p
                     .iter()
-                    .map(|row| idx.iter().map(|&i| row.get(i).copied().unwrap_or(0.0)).sum::<f64>() / n)
+                    .map(|row| {
+                        let ln: f64 = idx
+                            .iter()
+                            .map(|&i| row.get(i).copied().unwrap_or(0.0).max(f64::MIN_POSITIVE).ln())
+                            .sum();
+                        (ln / n).exp()
+                    })
                     .collect();
-                (per_entry, t.outside)
+                (per_entry, OUTSIDE_MATCH_FACTOR * t.outside)
             }
             Scored::Hardness(iv) => {
                 let per_entry = self
@@ -380,7 +395,7 @@ impl Engine {
                     .collect();
                 // A mineral that fits: a range of typical width inside what was seen.
                 let (a, b) = virtual_range(*iv, self.hardness_width, 1.0, 10.0);
-                (per_entry, hardness_likelihood(*iv, a, b))
+                (per_entry, OUTSIDE_MATCH_FACTOR * hardness_likelihood(*iv, a, b))
             }
             Scored::Sg(iv, sigma) => {
                 let per_entry = self
@@ -390,7 +405,7 @@ impl Engine {
                     .map(|e| sg_likelihood(*iv, *sigma, e.specific_gravity.min, e.specific_gravity.max))
                     .collect();
                 let (a, b) = virtual_range(*iv, self.sg_width, 1.0, 8.0);
-                (per_entry, sg_likelihood(*iv, *sigma, a, b))
+                (per_entry, OUTSIDE_MATCH_FACTOR * sg_likelihood(*iv, *sigma, a, b))
             }
         }
     }

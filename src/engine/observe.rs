@@ -127,6 +127,44 @@ impl<'de> Deserialize<'de> for SgObs {
     }
 }
 
+/// Deserialises an optional struct from a JSON object only: serde's derive
+/// would also take an array of the fields in order, which the contract does
+/// not allow (`"hardness": [2, 3]` is a wrong type, not a hardness).
+fn object_only<'de, D, T>(d: D) -> Result<Option<T>, D::Error>
+where
+    D: Deserializer<'de>,
+    T: Deserialize<'de>,
+{
+    use std::marker::PhantomData;
+    struct Opt<T>(PhantomData<T>);
+    struct Obj<T>(PhantomData<T>);
+    impl<'de, T: Deserialize<'de>> Visitor<'de> for Obj<T> {
+        type Value = T;
+        fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+            f.write_str("an object")
+        }
+        fn visit_map<A: MapAccess<'de>>(self, map: A) -> Result<T, A::Error> {
+            T::deserialize(de::value::MapAccessDeserializer::new(map))
+        }
+    }
+    impl<'de, T: Deserialize<'de>> Visitor<'de> for Opt<T> {
+        type Value = Option<T>;
+        fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+            f.write_str("an object or null")
+        }
+        fn visit_none<E: de::Error>(self) -> Result<Option<T>, E> {
+            Ok(None)
+        }
+        fn visit_unit<E: de::Error>(self) -> Result<Option<T>, E> {
+            Ok(None)
+        }
+        fn visit_some<D2: Deserializer<'de>>(self, d: D2) -> Result<Option<T>, D2::Error> {
+            d.deserialize_map(Obj(PhantomData)).map(Some)
+        }
+    }
+    d.deserialize_option(Opt(PhantomData))
+}
+
 /// Everything observed on one specimen. `None` is "not observed".
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -138,10 +176,10 @@ pub struct Observations {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tenacity: Option<Tenacity>,
     /// Mohs hardness interval.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(default, deserialize_with = "object_only", skip_serializing_if = "Option::is_none")]
     pub hardness: Option<HardnessObs>,
     /// Scratch tests.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(default, deserialize_with = "object_only", skip_serializing_if = "Option::is_none")]
     pub scratch: Option<ScratchObs>,
     /// The specimen scratches window glass.
     #[serde(default, skip_serializing_if = "Option::is_none")]
