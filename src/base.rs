@@ -318,9 +318,9 @@ impl Base {
             for prop in SOURCED_PROPERTIES {
                 match e.sources.get(*prop) {
                     None => p.push(format!("{id}: no source for {prop}")),
-                    Some(key) if !self.sources.contains_key(key) => {
-                        p.push(format!("{id}: source {key} for {prop} is not a known source"))
-                    }
+                    Some(key) if !self.sources.contains_key(key) => p.push(format!(
+                        "{id}: source {key} for {prop} is not a known source"
+                    )),
                     Some(_) => {}
                 }
             }
@@ -431,7 +431,10 @@ mod tests {
         let base = builtin();
         for id in ["biotite", "chlorite", "smectite", "lepidolite"] {
             let e = base.entry(id).unwrap_or_else(|| panic!("{id} missing"));
-            assert!(!e.series.trim().is_empty(), "{id} must say it is a series or group");
+            assert!(
+                !e.series.trim().is_empty(),
+                "{id} must say it is a series or group"
+            );
         }
         for id in ["muscovite", "illite"] {
             let e = base.entry(id).unwrap_or_else(|| panic!("{id} missing"));
@@ -443,7 +446,14 @@ mod tests {
     #[test]
     fn the_lookalikes_are_not_sheet_silicates() {
         let base = builtin();
-        for id in ["graphite", "molybdenite", "gypsum", "hematite", "brucite", "chloritoid"] {
+        for id in [
+            "graphite",
+            "molybdenite",
+            "gypsum",
+            "hematite",
+            "brucite",
+            "chloritoid",
+        ] {
             let e = base.entry(id).unwrap_or_else(|| panic!("{id} missing"));
             assert!(!e.sheet_silicate, "{id}");
             assert_eq!(e.group, Group::NotSheetSilicate, "{id}");
@@ -468,7 +478,10 @@ mod tests {
     /// Replaces the first occurrence of `from` in the real file, so each
     /// broken variant differs from a valid base by exactly one value.
     fn broken(from: &str, to: &str) -> Result<Base, BaseError> {
-        assert!(BASE_TOML.contains(from), "test fixture: {from:?} not in base");
+        assert!(
+            BASE_TOML.contains(from),
+            "test fixture: {from:?} not in base"
+        );
         Base::parse(&BASE_TOML.replacen(from, to, 1))
     }
 

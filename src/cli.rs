@@ -34,7 +34,12 @@ pub enum Command {
 #[derive(Debug, Clone, clap::Args)]
 pub struct ServeArgs {
     /// Address and port to listen on.
-    #[arg(long, env = "BASAL_LISTEN", default_value = "127.0.0.1:8080", global = true)]
+    #[arg(
+        long,
+        env = "BASAL_LISTEN",
+        default_value = "127.0.0.1:8080",
+        global = true
+    )]
     pub listen: SocketAddr,
     /// The SQLite database file; created with its folder and migrated on
     /// start when missing. Default: basal.sqlite in the user's data folder
@@ -86,8 +91,15 @@ mod tests {
 
     #[test]
     fn serve_takes_listen_and_db() {
-        let cli = Cli::try_parse_from(["basal", "serve", "--listen", "127.0.0.1:9999", "--db", "/tmp/x.sqlite"])
-            .expect("parses");
+        let cli = Cli::try_parse_from([
+            "basal",
+            "serve",
+            "--listen",
+            "127.0.0.1:9999",
+            "--db",
+            "/tmp/x.sqlite",
+        ])
+        .expect("parses");
         assert!(matches!(cli.command, Some(Command::Serve)));
         let cfg = cli.serve.config();
         assert_eq!(cfg.listen.port(), 9999);

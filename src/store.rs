@@ -10,9 +10,9 @@ use std::path::Path;
 use std::str::FromStr;
 use std::time::Duration;
 
+use sqlx::SqlitePool;
 use sqlx::migrate::Migrator;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
-use sqlx::SqlitePool;
 
 /// Migrations, embedded at compile time from `migrations/`.
 pub static MIGRATOR: Migrator = sqlx::migrate!("./migrations");
@@ -47,7 +47,10 @@ trait Context<T> {
 
 impl<T> Context<T> for Result<T, sqlx::Error> {
     fn context(self, what: &'static str) -> Result<T, StoreError> {
-        self.map_err(|source| StoreError::Sqlx { context: what, source })
+        self.map_err(|source| StoreError::Sqlx {
+            context: what,
+            source,
+        })
     }
 }
 

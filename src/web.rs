@@ -68,16 +68,14 @@ pub fn app(state: AppState) -> Router {
             Duration::from_secs(30),
         ))
         .layer(tower_http::compression::CompressionLayer::new())
-        .layer(
-            TraceLayer::new_for_http().make_span_with(|req: &Request| {
-                let path = req
-                    .extensions()
-                    .get::<MatchedPath>()
-                    .map(MatchedPath::as_str)
-                    .unwrap_or("unmatched");
-                tracing::info_span!("http", http.method = %req.method(), http.route = path)
-            }),
-        )
+        .layer(TraceLayer::new_for_http().make_span_with(|req: &Request| {
+            let path = req
+                .extensions()
+                .get::<MatchedPath>()
+                .map(MatchedPath::as_str)
+                .unwrap_or("unmatched");
+            tracing::info_span!("http", http.method = %req.method(), http.route = path)
+        }))
 }
 
 /// Starts tracing: `RUST_LOG` if set, else info for basal and tower_http.
@@ -85,7 +83,10 @@ pub fn init_tracing() {
     use tracing_subscriber::EnvFilter;
     let filter = EnvFilter::try_from_default_env()
         .unwrap_or_else(|_| EnvFilter::new("basal=info,tower_http=warn"));
-    let _ = tracing_subscriber::fmt().with_env_filter(filter).with_target(false).try_init();
+    let _ = tracing_subscriber::fmt()
+        .with_env_filter(filter)
+        .with_target(false)
+        .try_init();
 }
 
 /// Why the service could not start or stopped.
@@ -112,7 +113,10 @@ pub enum ServeError {
 pub async fn serve(config: Config) -> Result<(), ServeError> {
     let listener = TcpListener::bind(config.listen)
         .await
-        .map_err(|source| ServeError::Bind { addr: config.listen, source })?;
+        .map_err(|source| ServeError::Bind {
+            addr: config.listen,
+            source,
+        })?;
     let addr = listener.local_addr()?;
     tracing::info!(url = %format!("http://{addr}/"), "basal listening on http://{addr}/");
     let db = crate::store::open(&config.db).await?;
@@ -124,7 +128,11 @@ pub async fn serve(config: Config) -> Result<(), ServeError> {
         base.previous = previous.as_deref().unwrap_or("none"),
         "database open and migrated; ready"
     );
-    let state = AppState { db: db.clone(), engine, config: Arc::new(config) };
+    let state = AppState {
+        db: db.clone(),
+        engine,
+        config: Arc::new(config),
+    };
     run(listener, state, shutdown_signal()).await?;
     db.close().await;
     tracing::info!("basal stopped");
@@ -143,7 +151,9 @@ pub async fn run(
     let listener = listener.tap_io(|tcp| {
         let _ = tcp.set_nodelay(true);
     });
-    axum::serve(listener, app(state)).with_graceful_shutdown(shutdown).await
+    axum::serve(listener, app(state))
+        .with_graceful_shutdown(shutdown)
+        .await
 }
 
 /// Resolves on Ctrl-C or SIGTERM.

@@ -200,8 +200,8 @@ fn bound_water_matches_the_handbook_h2o_line() {
         let Some((_, published)) = sheet.oxides.iter().find(|(n, _)| *n == "H2O") else {
             continue;
         };
-        let formula = Formula::parse(sheet.formula)
-            .unwrap_or_else(|e| panic!("{}: {e}", sheet.sheet));
+        let formula =
+            Formula::parse(sheet.formula).unwrap_or_else(|e| panic!("{}: {e}", sheet.sheet));
         let water = formula.bound_water_wt_percent();
         assert!(
             (water - published).abs() <= TOLERANCE_WT_PERCENT,
@@ -273,7 +273,10 @@ fn atomic_weights_agree_with_mendeleev_0_8_4() {
 
         match (&theirs, ours) {
             (
-                Theirs::Interval { range, conventional },
+                Theirs::Interval {
+                    range,
+                    conventional,
+                },
                 Ours::Interval { low, high, .. },
             ) => {
                 let (lo, hi) = (range.start() - ROUNDING_SLACK, range.end() + ROUNDING_SLACK);
@@ -291,7 +294,13 @@ fn atomic_weights_agree_with_mendeleev_0_8_4() {
                     ));
                 }
             }
-            (Theirs::Uncertainty { weight, uncertainty }, Ours::Value { .. }) => {
+            (
+                Theirs::Uncertainty {
+                    weight,
+                    uncertainty,
+                },
+                Ours::Value { .. },
+            ) => {
                 if (value - weight).abs() > uncertainty + ROUNDING_SLACK {
                     failures.push(format!(
                         "{symbol}: {value} vs mendeleev {weight} ± {uncertainty}"

@@ -21,7 +21,10 @@ fn identify(v: Value) -> Identification {
 }
 
 fn rank_of(id: &Identification, entry: &str) -> usize {
-    id.candidates.iter().position(|c| c.id == entry).map_or(usize::MAX, |i| i + 1)
+    id.candidates
+        .iter()
+        .position(|c| c.id == entry)
+        .map_or(usize::MAX, |i| i + 1)
 }
 
 /// Classic specimens, each described from its HoM data sheet (hardness,
@@ -31,38 +34,68 @@ fn classics() -> Vec<(&'static str, Value)> {
     vec![
         // HoM muscovite: laminae flexible and elastic; H 2.5–3 on {001}; D 2.77–2.88;
         // colourless to grey; vitreous to pearly; streak white; in granite pegmatites.
-        ("muscovite", json!({"cleavage": "one_perfect", "tenacity": "elastic", "colour": ["colourless", "silvery"],
+        (
+            "muscovite",
+            json!({"cleavage": "one_perfect", "tenacity": "elastic", "colour": ["colourless", "silvery"],
             "luster": "pearly", "habit": "books", "streak": "white", "diaphaneity": "transparent",
-            "scratch": {"fingernail": false, "copper": true}, "specific_gravity": 2.83, "setting": "pegmatite"})),
+            "scratch": {"fingernail": false, "copper": true}, "specific_gravity": 2.83, "setting": "pegmatite"}),
+        ),
         // HoM annite/biotite: black to dark brown, elastic laminae, H 2.5–3, D 2.8–3.3 (series).
-        ("biotite", json!({"cleavage": "one_perfect", "tenacity": "elastic", "colour": ["black", "brown"],
+        (
+            "biotite",
+            json!({"cleavage": "one_perfect", "tenacity": "elastic", "colour": ["black", "brown"],
             "luster": "vitreous", "habit": "flakes", "diaphaneity": "translucent", "specific_gravity": 3.05,
-            "setting": "granite"})),
+            "setting": "granite"}),
+        ),
         // HoM clinochlore: green, laminae flexible but not elastic, H 2–2.5, D 2.6–3.0, greenish streak.
-        ("chlorite", json!({"cleavage": "one_perfect", "tenacity": "flexible", "colour": ["green", "dark_green"],
-            "luster": "pearly", "habit": "foliated", "streak": "greenish", "setting": "greenschist"})),
+        (
+            "chlorite",
+            json!({"cleavage": "one_perfect", "tenacity": "flexible", "colour": ["green", "dark_green"],
+            "luster": "pearly", "habit": "foliated", "streak": "greenish", "setting": "greenschist"}),
+        ),
         // HoM talc: H 1, greasy/soapy feel, pearly, white to pale green, D 2.58–2.83.
-        ("talc", json!({"hardness": {"max": 1.5}, "feel": "soapy", "luster": "pearly", "colour": ["white", "pale_green"],
-            "tenacity": "sectile", "habit": "foliated", "setting": "ultramafic"})),
+        (
+            "talc",
+            json!({"hardness": {"max": 1.5}, "feel": "soapy", "luster": "pearly", "colour": ["white", "pale_green"],
+            "tenacity": "sectile", "habit": "foliated", "setting": "ultramafic"}),
+        ),
         // HoM graphite: H 1–2, D 2.09–2.23, black streak, metallic, greasy feel.
-        ("graphite", json!({"cleavage": "one_perfect", "colour": ["black", "grey"], "luster": "metallic",
-            "streak": "black", "feel": "greasy", "specific_gravity": 2.2, "setting": "schist_gneiss"})),
+        (
+            "graphite",
+            json!({"cleavage": "one_perfect", "colour": ["black", "grey"], "luster": "metallic",
+            "streak": "black", "feel": "greasy", "specific_gravity": 2.2, "setting": "schist_gneiss"}),
+        ),
         // HoM molybdenite: H 1–1.5, D 4.62–5.06, lead-grey, metallic, flexible laminae.
-        ("molybdenite", json!({"cleavage": "one_perfect", "colour": ["grey", "silvery"], "luster": "metallic",
-            "feel": "greasy", "tenacity": "flexible", "specific_gravity": 4.8, "setting": "hydrothermal_vein"})),
+        (
+            "molybdenite",
+            json!({"cleavage": "one_perfect", "colour": ["grey", "silvery"], "luster": "metallic",
+            "feel": "greasy", "tenacity": "flexible", "specific_gravity": 4.8, "setting": "hydrothermal_vein"}),
+        ),
         // HoM gypsum: H 2, D 2.31–2.33, flexible inelastic laminae, colourless to white, evaporites.
-        ("gypsum", json!({"cleavage": "one_perfect", "tenacity": "flexible", "colour": ["colourless", "white"],
+        (
+            "gypsum",
+            json!({"cleavage": "one_perfect", "tenacity": "flexible", "colour": ["colourless", "white"],
             "luster": "vitreous", "scratch": {"fingernail": true}, "specific_gravity": 2.32, "acid_reaction": false,
-            "setting": "evaporite"})),
+            "setting": "evaporite"}),
+        ),
         // HoM chrysotile (as serpentine asbestos): fibrous, silky, green-white, in serpentinite.
-        ("chrysotile", json!({"habit": "fibrous", "luster": "silky", "tenacity": "flexible",
-            "colour": ["pale_green", "white"], "setting": "ultramafic"})),
+        (
+            "chrysotile",
+            json!({"habit": "fibrous", "luster": "silky", "tenacity": "flexible",
+            "colour": ["pale_green", "white"], "setting": "ultramafic"}),
+        ),
         // HoM hematite (specular): black to steel-grey, metallic, streak red-brown, D 5.26, H 5–6.
-        ("hematite", json!({"colour": ["black", "silvery"], "luster": "metallic", "streak": "red_brown",
-            "habit": "flakes", "specific_gravity": 5.2, "diaphaneity": "opaque"})),
+        (
+            "hematite",
+            json!({"colour": ["black", "silvery"], "luster": "metallic", "streak": "red_brown",
+            "habit": "flakes", "specific_gravity": 5.2, "diaphaneity": "opaque"}),
+        ),
         // HoM chloritoid: dark green, brittle, H 6.5, D 3.46–3.80, in pelitic schist.
-        ("chloritoid", json!({"cleavage": "one_perfect", "tenacity": "brittle", "colour": ["dark_green"],
-            "scratches_glass": true, "specific_gravity": 3.55, "setting": "schist_gneiss"})),
+        (
+            "chloritoid",
+            json!({"cleavage": "one_perfect", "tenacity": "brittle", "colour": ["dark_green"],
+            "scratches_glass": true, "specific_gravity": 3.55, "setting": "schist_gneiss"}),
+        ),
     ]
 }
 
@@ -70,8 +103,17 @@ fn classics() -> Vec<(&'static str, Value)> {
 fn classic_handbook_specimens_rank_first() {
     for (want, obs) in classics() {
         let id = identify(obs.clone());
-        assert_eq!(id.candidates[0].id, want, "{obs}: got {:?}", &id.candidates[..3]);
-        assert!(id.candidates[0].conflicts.is_empty(), "{want}: {:?}", id.candidates[0].conflicts);
+        assert_eq!(
+            id.candidates[0].id,
+            want,
+            "{obs}: got {:?}",
+            &id.candidates[..3]
+        );
+        assert!(
+            id.candidates[0].conflicts.is_empty(),
+            "{want}: {:?}",
+            id.candidates[0].conflicts
+        );
     }
 }
 
@@ -101,7 +143,9 @@ fn a_single_wrong_observation_does_not_push_the_right_answer_out_of_the_top_thre
     let mut tried = 0;
     let mut failures = Vec::new();
     for (want, obs) in classics() {
-        let Value::Object(map) = &obs else { unreachable!() };
+        let Value::Object(map) = &obs else {
+            unreachable!()
+        };
         for (field, value) in map {
             for alt in alternatives(field) {
                 if &alt == value {
@@ -118,19 +162,27 @@ fn a_single_wrong_observation_does_not_push_the_right_answer_out_of_the_top_thre
         }
     }
     assert!(tried > 300, "the perturbation set is too small ({tried})");
-    assert!(failures.is_empty(), "{} of {tried} single changes lost the answer: {failures:#?}", failures.len());
+    assert!(
+        failures.is_empty(),
+        "{} of {tried} single changes lost the answer: {failures:#?}",
+        failures.len()
+    );
 }
 
 #[test]
 fn a_specimen_that_contradicts_every_entry_goes_outside_the_base() {
     // Quartz-like: harder than glass, no cleavage, glassy, SG 2.65 (HoM quartz: H 7, D 2.65).
-    let quartz = identify(json!({"cleavage": "none_visible", "tenacity": "brittle", "scratches_glass": true,
+    let quartz = identify(
+        json!({"cleavage": "none_visible", "tenacity": "brittle", "scratches_glass": true,
         "luster": "vitreous", "colour": ["colourless"], "habit": "crystals", "specific_gravity": 2.65,
-        "streak": "white", "diaphaneity": "transparent"}));
+        "streak": "white", "diaphaneity": "transparent"}),
+    );
     assert!(quartz.outside_base > 0.5, "outside {}", quartz.outside_base);
     // Galena-like: heavy, cubic cleavage, metallic (HoM galena: D 7.58, H 2.5).
-    let galena = identify(json!({"cleavage": "three_or_more", "luster": "metallic", "colour": ["grey"],
-        "specific_gravity": 7.5, "streak": "grey", "habit": "crystals", "tenacity": "brittle"}));
+    let galena = identify(
+        json!({"cleavage": "three_or_more", "luster": "metallic", "colour": ["grey"],
+        "specific_gravity": 7.5, "streak": "grey", "habit": "crystals", "tenacity": "brittle"}),
+    );
     assert!(galena.outside_base > 0.5, "outside {}", galena.outside_base);
     // A plain muscovite keeps it small.
     let mica = identify(classics()[0].1.clone());
@@ -145,7 +197,11 @@ fn probabilities_sum_to_one_and_groups_match() {
         assert!((total - 1.0).abs() < 1e-9, "{total}");
         let groups: f64 = id.groups.iter().map(|g| g.probability).sum();
         assert!((groups + id.outside_base - 1.0).abs() < 1e-9);
-        assert!(id.groups.windows(2).all(|w| w[0].probability >= w[1].probability));
+        assert!(
+            id.groups
+                .windows(2)
+                .all(|w| w[0].probability >= w[1].probability)
+        );
     }
 }
 
@@ -162,13 +218,19 @@ fn entropy_over_entries(id: &Identification) -> f64 {
 #[test]
 fn asking_the_top_question_reduces_expected_entropy_by_the_stated_gain() {
     let engine = Engine::builtin();
-    let starts = [json!({}), json!({"colour": ["green"]}), json!({"cleavage": "one_perfect", "setting": "schist_gneiss"})];
+    let starts = [
+        json!({}),
+        json!({"colour": ["green"]}),
+        json!({"cleavage": "one_perfect", "setting": "schist_gneiss"}),
+    ];
     for start in starts {
         let now = identify(start.clone());
         let h_now = entropy_over_entries(&now);
-        for q in now.next_questions.iter().filter(|q| {
-            !matches!(q.property, Property::Hardness | Property::SpecificGravity)
-        }) {
+        for q in now
+            .next_questions
+            .iter()
+            .filter(|q| !matches!(q.property, Property::Hardness | Property::SpecificGravity))
+        {
             // Recompute by answering: Σₐ P(a) H(π | a), with P(a) the engine's predictive.
             let mut expected = 0.0;
             for (answer, pa) in engine.predictive(&now, q.property) {
@@ -182,22 +244,37 @@ fn asking_the_top_question_reduces_expected_entropy_by_the_stated_gain() {
                 expected += pa * entropy_over_entries(&identify(obs));
             }
             let gain = h_now - expected;
-            assert!((gain - q.expected_gain_bits).abs() < 2e-3, "{start} {:?}: stated {} recomputed {gain}", q.property, q.expected_gain_bits);
+            assert!(
+                (gain - q.expected_gain_bits).abs() < 2e-3,
+                "{start} {:?}: stated {} recomputed {gain}",
+                q.property,
+                q.expected_gain_bits
+            );
         }
         let top = &now.next_questions[0];
         assert!(top.expected_gain_bits > 0.0);
-        assert!(now.next_questions.windows(2).all(|w| w[0].expected_gain_bits >= w[1].expected_gain_bits));
+        assert!(
+            now.next_questions
+                .windows(2)
+                .all(|w| w[0].expected_gain_bits >= w[1].expected_gain_bits)
+        );
     }
 }
 
 #[test]
 fn answered_properties_are_not_asked_again_and_a_full_record_leaves_nothing_to_ask() {
     let id = identify(json!({"cleavage": "one_perfect", "scratch": {"copper": true}}));
-    assert!(id.next_questions.iter().all(|q| q.property != Property::Cleavage && q.property != Property::Hardness));
-    let full = identify(json!({"cleavage": "one_perfect", "tenacity": "elastic", "hardness": {"min": 2.5, "max": 3},
+    assert!(
+        id.next_questions
+            .iter()
+            .all(|q| q.property != Property::Cleavage && q.property != Property::Hardness)
+    );
+    let full = identify(
+        json!({"cleavage": "one_perfect", "tenacity": "elastic", "hardness": {"min": 2.5, "max": 3},
         "colour": ["colourless"], "luster": "pearly", "habit": "books", "feel": "smooth", "wet_behaviour": "unchanged",
         "streak": "white", "diaphaneity": "transparent", "specific_gravity": 2.8, "magnetic": false,
-        "acid_reaction": false, "setting": "pegmatite"}));
+        "acid_reaction": false, "setting": "pegmatite"}),
+    );
     assert!(full.next_questions.is_empty());
     assert!(full.separating_test.is_none());
 }
@@ -211,21 +288,33 @@ fn every_question_says_how_to_do_the_test() {
 
 #[test]
 fn a_fibrous_serpentine_raises_the_asbestos_caution_and_acid_its_own() {
-    let id = identify(json!({"habit": "fibrous", "luster": "silky", "setting": "ultramafic", "acid_reaction": false}));
+    let id = identify(
+        json!({"habit": "fibrous", "luster": "silky", "setting": "ultramafic", "acid_reaction": false}),
+    );
     let codes: Vec<CautionCode> = id.cautions.iter().map(|c| c.code).collect();
     assert!(codes.contains(&CautionCode::Asbestos), "{codes:?}");
     assert!(codes.contains(&CautionCode::Acid), "{codes:?}");
     let asbestos = &id.cautions[0].message;
-    assert!(asbestos.contains("dry") && asbestos.contains("regulations"), "{asbestos}");
+    assert!(
+        asbestos.contains("dry") && asbestos.contains("regulations"),
+        "{asbestos}"
+    );
     // A clean mica raises none.
     assert!(identify(classics()[0].1.clone()).cautions.is_empty());
 }
 
 #[test]
 fn a_clay_raises_the_dust_caution() {
-    let id = identify(json!({"habit": "earthy", "wet_behaviour": "plastic", "colour": ["white"], "feel": "smooth",
-        "setting": "weathering_profile"}));
-    assert_eq!(id.candidates[0].id, "kaolinite", "{:?}", &id.candidates[..3]);
+    let id = identify(
+        json!({"habit": "earthy", "wet_behaviour": "plastic", "colour": ["white"], "feel": "smooth",
+        "setting": "weathering_profile"}),
+    );
+    assert_eq!(
+        id.candidates[0].id,
+        "kaolinite",
+        "{:?}",
+        &id.candidates[..3]
+    );
     assert!(id.cautions.iter().any(|c| c.code == CautionCode::Dust));
 }
 
@@ -242,9 +331,17 @@ fn the_leaders_explain_themselves() {
     assert!(top.agrees.contains(&Property::Tenacity));
     // Muscovite's flakes spring back and its streak is white: a bent green
     // flake with a greenish streak counts against it, and says so.
-    let musc = id.candidates.iter().find(|c| c.id == "muscovite").expect("muscovite");
+    let musc = id
+        .candidates
+        .iter()
+        .find(|c| c.id == "muscovite")
+        .expect("muscovite");
     assert!(musc.conflicts.contains(&Property::Streak), "{musc:?}");
-    let tenacity = musc.evidence.iter().find(|e| e.property == Property::Tenacity).expect("scored");
+    let tenacity = musc
+        .evidence
+        .iter()
+        .find(|e| e.property == Property::Tenacity)
+        .expect("scored");
     assert!(tenacity.bits < 0.0, "{musc:?}");
     let sep = id.separating_test.expect("a test remains");
     assert_eq!(sep.first, top.id);
@@ -256,40 +353,67 @@ fn arb_obs() -> impl Strategy<Value = Observations> {
         proptest::option::of(proptest::sample::select(T::ALL.to_vec()))
     }
     (
-        (pick::<Cleavage>(), pick::<Tenacity>(), pick::<Luster>(), pick::<Habit>(), pick::<Feel>()),
-        (pick::<WetBehaviour>(), pick::<Streak>(), pick::<Diaphaneity>(), pick::<Setting>()),
+        (
+            pick::<Cleavage>(),
+            pick::<Tenacity>(),
+            pick::<Luster>(),
+            pick::<Habit>(),
+            pick::<Feel>(),
+        ),
+        (
+            pick::<WetBehaviour>(),
+            pick::<Streak>(),
+            pick::<Diaphaneity>(),
+            pick::<Setting>(),
+        ),
         proptest::option::of(proptest::sample::subsequence(Colour::ALL.to_vec(), 1..4)),
         proptest::option::of((1.0f64..10.0, 0.0f64..3.0)),
         proptest::option::of(1.0f64..8.0),
-        (proptest::option::of(any::<bool>()), proptest::option::of(any::<bool>()), proptest::option::of(any::<bool>())),
-        (proptest::option::of(any::<bool>()), proptest::option::of(any::<bool>())),
+        (
+            proptest::option::of(any::<bool>()),
+            proptest::option::of(any::<bool>()),
+            proptest::option::of(any::<bool>()),
+        ),
+        (
+            proptest::option::of(any::<bool>()),
+            proptest::option::of(any::<bool>()),
+        ),
     )
-        .prop_map(|((c, t, l, h, f), (w, s, d, set), col, hard, sg, (fing, cop, glass), (mag, acid))| {
-            let mut o = Observations {
-                cleavage: c,
-                tenacity: t,
-                luster: l,
-                habit: h,
-                feel: f,
-                wet_behaviour: w,
-                streak: s,
-                diaphaneity: d,
-                setting: set,
-                colour: col,
-                scratches_glass: glass,
-                magnetic: mag,
-                acid_reaction: acid,
-                ..Default::default()
-            };
-            if let Some((lo, width)) = hard {
-                o.hardness = Some(basal::engine::observe::HardnessObs { min: Some(lo), max: Some((lo + width).min(10.0)) });
-            }
-            if fing.is_some() || cop.is_some() {
-                o.scratch = Some(basal::engine::observe::ScratchObs { fingernail: fing, copper: cop, steel: None });
-            }
-            o.specific_gravity = sg.map(basal::engine::observe::SgObs::Value);
-            o
-        })
+        .prop_map(
+            |((c, t, l, h, f), (w, s, d, set), col, hard, sg, (fing, cop, glass), (mag, acid))| {
+                let mut o = Observations {
+                    cleavage: c,
+                    tenacity: t,
+                    luster: l,
+                    habit: h,
+                    feel: f,
+                    wet_behaviour: w,
+                    streak: s,
+                    diaphaneity: d,
+                    setting: set,
+                    colour: col,
+                    scratches_glass: glass,
+                    magnetic: mag,
+                    acid_reaction: acid,
+                    ..Default::default()
+                };
+                if let Some((lo, width)) = hard {
+                    o.hardness = Some(basal::engine::observe::HardnessObs {
+                        min: Some(lo),
+                        max: Some((lo + width).min(10.0)),
+                    });
+                }
+                if fing.is_some() || cop.is_some() {
+                    o.scratch = Some(basal::engine::observe::ScratchObs {
+                        fingernail: fing,
+                        copper: cop,
+                        steel: None,
+                    });
+                }
+                o.specific_gravity = sg.map(basal::engine::observe::SgObs::Value);
+                o
+            },
+        )
 }
 
 proptest! {

@@ -41,20 +41,34 @@ fn score(engine: &Engine, case: &Case) -> (Scored, String) {
         .collect();
     ranked.push(("(outside)".to_string(), id.outside_base));
     ranked.sort_by(|a, b| b.1.total_cmp(&a.1));
-    let want = case.expect.clone().unwrap_or_else(|| "(outside)".to_string());
-    let rank = ranked.iter().position(|(i, _)| *i == want).unwrap_or(usize::MAX) + 1;
+    let want = case
+        .expect
+        .clone()
+        .unwrap_or_else(|| "(outside)".to_string());
+    let rank = ranked
+        .iter()
+        .position(|(i, _)| *i == want)
+        .unwrap_or(usize::MAX)
+        + 1;
     let lenient_first = rank == 1 || case.also_acceptable.contains(&ranked[0].0);
     let top: Vec<String> = ranked
         .iter()
         .take(3)
         .map(|(i, p)| format!("{i} {p:.2}"))
         .collect();
-    (Scored { rank, lenient_first }, top.join(", "))
+    (
+        Scored {
+            rank,
+            lenient_first,
+        },
+        top.join(", "),
+    )
 }
 
 #[test]
 fn the_engine_names_handbook_specimens() {
-    let suite: Suite = serde_json::from_str(include_str!("data/specimens.json")).expect("suite parses");
+    let suite: Suite =
+        serde_json::from_str(include_str!("data/specimens.json")).expect("suite parses");
     let engine = Engine::builtin();
     let mut first = 0;
     let mut lenient = 0;
@@ -62,7 +76,13 @@ fn the_engine_names_handbook_specimens() {
     let mut by_cat: std::collections::BTreeMap<&str, (usize, usize, usize)> = Default::default();
     for case in &suite.cases {
         let (s, top) = score(engine, case);
-        let ok = if s.rank == 1 { "  " } else if s.rank <= 3 { "~ " } else { "X " };
+        let ok = if s.rank == 1 {
+            "  "
+        } else if s.rank <= 3 {
+            "~ "
+        } else {
+            "X "
+        };
         println!(
             "{ok}{:<12} {:<58} want {:<12} rank {:>2}  [{top}]",
             case.category,
@@ -89,8 +109,17 @@ fn the_engine_names_handbook_specimens() {
         println!("{cat:<14} {count:>3} cases  first {f:>3}  top-3 {t:>3}");
     }
     let (f, l, t) = (first as f64 / n, lenient as f64 / n, top3 as f64 / n);
-    println!("first {f:.3}  first-or-acceptable {l:.3}  top-3 {t:.3}  ({} cases)", suite.cases.len());
+    println!(
+        "first {f:.3}  first-or-acceptable {l:.3}  top-3 {t:.3}  ({} cases)",
+        suite.cases.len()
+    );
     // The acceptance targets of the identification core.
-    assert!(f >= 0.80, "right entry first in {f:.3} of cases, want at least 0.80");
-    assert!(t >= 0.95, "right entry in the top three in {t:.3} of cases, want at least 0.95");
+    assert!(
+        f >= 0.80,
+        "right entry first in {f:.3} of cases, want at least 0.80"
+    );
+    assert!(
+        t >= 0.95,
+        "right entry in the top three in {t:.3} of cases, want at least 0.95"
+    );
 }

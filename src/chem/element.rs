@@ -20,8 +20,9 @@ use std::fmt;
 /// Why an enum rather than a string: every later step (weights, oxide
 /// conversion, default oxidation states) can then match exhaustively, and a
 /// formula that parsed can never hold an element the tables do not know.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
-#[derive(serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize, serde::Deserialize,
+)]
 pub enum Element {
     /// Hydrogen.
     H,
@@ -188,29 +189,125 @@ const fn row(
 /// consulted and are written from memory of it (both unchanged since 2013);
 /// the `chem_handbook` test checks them against the `mendeleev` crate.
 const TABLE: [ElementData; 33] = [
-    row(Element::H, "H", "hydrogen", 1, interval(1.00784, 1.00811, 1.008)),
-    row(Element::Li, "Li", "lithium", 3, interval(6.938, 6.997, 6.94)),
-    row(Element::Be, "Be", "beryllium", 4, value(9.012_183_1, 0.000_000_5)),
+    row(
+        Element::H,
+        "H",
+        "hydrogen",
+        1,
+        interval(1.00784, 1.00811, 1.008),
+    ),
+    row(
+        Element::Li,
+        "Li",
+        "lithium",
+        3,
+        interval(6.938, 6.997, 6.94),
+    ),
+    row(
+        Element::Be,
+        "Be",
+        "beryllium",
+        4,
+        value(9.012_183_1, 0.000_000_5),
+    ),
     row(Element::B, "B", "boron", 5, interval(10.806, 10.821, 10.81)),
-    row(Element::C, "C", "carbon", 6, interval(12.0096, 12.0116, 12.011)),
-    row(Element::N, "N", "nitrogen", 7, interval(14.00643, 14.00728, 14.007)),
-    row(Element::O, "O", "oxygen", 8, interval(15.99903, 15.99977, 15.999)),
-    row(Element::F, "F", "fluorine", 9, value(18.998_403_162, 0.000_000_005)),
-    row(Element::Na, "Na", "sodium", 11, value(22.989_769_28, 0.000_000_02)),
-    row(Element::Mg, "Mg", "magnesium", 12, interval(24.304, 24.307, 24.305)),
-    row(Element::Al, "Al", "aluminium", 13, value(26.981_538_4, 0.000_000_3)),
-    row(Element::Si, "Si", "silicon", 14, interval(28.084, 28.086, 28.085)),
-    row(Element::P, "P", "phosphorus", 15, value(30.973_761_998, 0.000_000_005)),
-    row(Element::S, "S", "sulfur", 16, interval(32.059, 32.076, 32.06)),
-    row(Element::Cl, "Cl", "chlorine", 17, interval(35.446, 35.457, 35.45)),
+    row(
+        Element::C,
+        "C",
+        "carbon",
+        6,
+        interval(12.0096, 12.0116, 12.011),
+    ),
+    row(
+        Element::N,
+        "N",
+        "nitrogen",
+        7,
+        interval(14.00643, 14.00728, 14.007),
+    ),
+    row(
+        Element::O,
+        "O",
+        "oxygen",
+        8,
+        interval(15.99903, 15.99977, 15.999),
+    ),
+    row(
+        Element::F,
+        "F",
+        "fluorine",
+        9,
+        value(18.998_403_162, 0.000_000_005),
+    ),
+    row(
+        Element::Na,
+        "Na",
+        "sodium",
+        11,
+        value(22.989_769_28, 0.000_000_02),
+    ),
+    row(
+        Element::Mg,
+        "Mg",
+        "magnesium",
+        12,
+        interval(24.304, 24.307, 24.305),
+    ),
+    row(
+        Element::Al,
+        "Al",
+        "aluminium",
+        13,
+        value(26.981_538_4, 0.000_000_3),
+    ),
+    row(
+        Element::Si,
+        "Si",
+        "silicon",
+        14,
+        interval(28.084, 28.086, 28.085),
+    ),
+    row(
+        Element::P,
+        "P",
+        "phosphorus",
+        15,
+        value(30.973_761_998, 0.000_000_005),
+    ),
+    row(
+        Element::S,
+        "S",
+        "sulfur",
+        16,
+        interval(32.059, 32.076, 32.06),
+    ),
+    row(
+        Element::Cl,
+        "Cl",
+        "chlorine",
+        17,
+        interval(35.446, 35.457, 35.45),
+    ),
     row(Element::K, "K", "potassium", 19, value(39.0983, 0.0001)),
     row(Element::Ca, "Ca", "calcium", 20, value(40.078, 0.004)),
     row(Element::Ti, "Ti", "titanium", 22, value(47.867, 0.001)),
     row(Element::V, "V", "vanadium", 23, value(50.9415, 0.0001)),
     row(Element::Cr, "Cr", "chromium", 24, value(51.9961, 0.0006)),
-    row(Element::Mn, "Mn", "manganese", 25, value(54.938_043, 0.000_002)),
+    row(
+        Element::Mn,
+        "Mn",
+        "manganese",
+        25,
+        value(54.938_043, 0.000_002),
+    ),
     row(Element::Fe, "Fe", "iron", 26, value(55.845, 0.002)),
-    row(Element::Co, "Co", "cobalt", 27, value(58.933_194, 0.000_003)),
+    row(
+        Element::Co,
+        "Co",
+        "cobalt",
+        27,
+        value(58.933_194, 0.000_003),
+    ),
     row(Element::Ni, "Ni", "nickel", 28, value(58.6934, 0.0004)),
     row(Element::Cu, "Cu", "copper", 29, value(63.546, 0.003)),
     row(Element::Zn, "Zn", "zinc", 30, value(65.38, 0.02)),
@@ -218,9 +315,21 @@ const TABLE: [ElementData; 33] = [
     row(Element::Sr, "Sr", "strontium", 38, value(87.62, 0.01)),
     row(Element::Zr, "Zr", "zirconium", 40, value(91.224, 0.002)),
     row(Element::Mo, "Mo", "molybdenum", 42, value(95.95, 0.01)),
-    row(Element::Cs, "Cs", "caesium", 55, value(132.905_451_96, 0.000_000_06)),
+    row(
+        Element::Cs,
+        "Cs",
+        "caesium",
+        55,
+        value(132.905_451_96, 0.000_000_06),
+    ),
     row(Element::Ba, "Ba", "barium", 56, value(137.327, 0.007)),
-    row(Element::Pb, "Pb", "lead", 82, interval(206.14, 207.94, 207.2)),
+    row(
+        Element::Pb,
+        "Pb",
+        "lead",
+        82,
+        interval(206.14, 207.94, 207.2),
+    ),
 ];
 
 impl Element {

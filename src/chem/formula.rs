@@ -400,7 +400,9 @@ impl Parser {
                 let next = self.peek_at(index + 1);
                 let variable = matches!(c, 'n' | 'x')
                     && next.is_none_or(|n| {
-                        n.is_ascii_uppercase() || matches!(n, '(' | '[' | '{') || is_hydration_dot(n)
+                        n.is_ascii_uppercase()
+                            || matches!(n, '(' | '[' | '{')
+                            || is_hydration_dot(n)
                     });
                 if variable {
                     FormulaErrorKind::VariableCount
@@ -700,9 +702,7 @@ impl Formula {
         match species.oxidation {
             Some(state) => i32::from(state),
             None if self.is_single_element() => 0,
-            None => species
-                .element
-                .default_oxidation(self.contains(Element::O)),
+            None => species.element.default_oxidation(self.contains(Element::O)),
         }
     }
 
@@ -812,7 +812,10 @@ mod tests {
         assert_eq!(f.elements().len(), expected.len(), "{s}: {f}");
         for (element, n) in expected {
             let got = f.count(*element);
-            assert!((got - n).abs() < 1e-9, "{s}: {element} is {got}, expected {n}");
+            assert!(
+                (got - n).abs() < 1e-9,
+                "{s}: {element} is {got}, expected {n}"
+            );
         }
     }
 
@@ -824,7 +827,10 @@ mod tests {
             "KAl2(AlSi3O10)(OH)2",
             &[(K, 1.0), (Al, 3.0), (Si, 3.0), (O, 12.0), (H, 2.0)],
         );
-        assert_counts("Mg3Si4O10(OH)2", &[(Mg, 3.0), (Si, 4.0), (O, 12.0), (H, 2.0)]);
+        assert_counts(
+            "Mg3Si4O10(OH)2",
+            &[(Mg, 3.0), (Si, 4.0), (O, 12.0), (H, 2.0)],
+        );
         assert_counts(
             "(Mg5Al)(AlSi3O10)(OH)8",
             &[(Mg, 5.0), (Al, 2.0), (Si, 3.0), (O, 18.0), (H, 8.0)],
@@ -838,7 +844,14 @@ mod tests {
         assert_counts("Fe³⁺2O3", &[(Fe, 2.0), (O, 3.0)]);
         assert_counts(
             "KCa4Si8O20F·8H2O",
-            &[(K, 1.0), (Ca, 4.0), (Si, 8.0), (O, 28.0), (F, 1.0), (H, 16.0)],
+            &[
+                (K, 1.0),
+                (Ca, 4.0),
+                (Si, 8.0),
+                (O, 28.0),
+                (F, 1.0),
+                (H, 16.0),
+            ],
         );
         assert_counts(
             "Na0.33Al1.67Mg0.33Si4O10(OH)2·4H2O",
@@ -863,7 +876,10 @@ mod tests {
     #[test]
     fn brackets_nest_and_multiply() {
         assert_counts("Ca[SO4]", &[(Ca, 1.0), (S, 1.0), (O, 4.0)]);
-        assert_counts("K{Mg[Al(OH)2]3}2", &[(K, 1.0), (Mg, 2.0), (Al, 6.0), (O, 12.0), (H, 12.0)]);
+        assert_counts(
+            "K{Mg[Al(OH)2]3}2",
+            &[(K, 1.0), (Mg, 2.0), (Al, 6.0), (O, 12.0), (H, 12.0)],
+        );
         assert_counts("(OH)", &[(O, 1.0), (H, 1.0)]);
     }
 
@@ -880,15 +896,24 @@ mod tests {
         assert_counts("CaSO4 · 2H2O", &[(Ca, 1.0), (S, 1.0), (O, 6.0), (H, 4.0)]);
         assert_counts("  MoS2 ", &[(Mo, 1.0), (S, 2.0)]);
         // Several hydrate parts and decimal multipliers.
-        assert_counts("MgSO4·0.5H2O·H2O", &[(Mg, 1.0), (S, 1.0), (O, 5.5), (H, 3.0)]);
+        assert_counts(
+            "MgSO4·0.5H2O·H2O",
+            &[(Mg, 1.0), (S, 1.0), (O, 5.5), (H, 3.0)],
+        );
         // Oxide notation: every part may carry a multiplier.
-        assert_counts("3MgO·4SiO2·H2O", &[(Mg, 3.0), (O, 12.0), (Si, 4.0), (H, 2.0)]);
+        assert_counts(
+            "3MgO·4SiO2·H2O",
+            &[(Mg, 3.0), (O, 12.0), (Si, 4.0), (H, 2.0)],
+        );
     }
 
     #[test]
     fn subscript_counts() {
         assert_counts("Fe₂O₃", &[(Fe, 2.0), (O, 3.0)]);
-        assert_counts("Mg₃Si₄O₁₀(OH)₂", &[(Mg, 3.0), (Si, 4.0), (O, 12.0), (H, 2.0)]);
+        assert_counts(
+            "Mg₃Si₄O₁₀(OH)₂",
+            &[(Mg, 3.0), (Si, 4.0), (O, 12.0), (H, 2.0)],
+        );
     }
 
     #[test]
@@ -927,7 +952,11 @@ mod tests {
         assert_eq!(parse("Cu⁺2O").to_string(), "Cu⁺2O");
         assert_eq!(parse("S^2-").to_string(), "S²⁻");
         // The display parses back to the same formula.
-        for s in ["KCa4Si8O20F·8H2O", "Fe^2+Fe^3+2O4", "Na0.33Al1.67Mg0.33Si4O10(OH)2·4H2O"] {
+        for s in [
+            "KCa4Si8O20F·8H2O",
+            "Fe^2+Fe^3+2O4",
+            "Na0.33Al1.67Mg0.33Si4O10(OH)2·4H2O",
+        ] {
             let f = parse(s);
             assert_eq!(parse(&f.to_string()), f, "{s}");
         }
@@ -951,7 +980,14 @@ mod tests {
         assert_error("   ", 4, K::Empty);
         assert_error("KAlXx2", 4, K::UnknownElement("Xx".into()));
         assert_error("Mg3Si4O10(OH)2)", 15, K::UnmatchedClose(')'));
-        assert_error("Mg3(OH]2", 7, K::MismatchedClose { open: '(', close: ']' });
+        assert_error(
+            "Mg3(OH]2",
+            7,
+            K::MismatchedClose {
+                open: '(',
+                close: ']',
+            },
+        );
         assert_error("Mg3(OH2", 4, K::UnclosedGroup('('));
         assert_error("Mg()2", 3, K::EmptyGroup);
         assert_error("Mg0O", 3, K::ZeroCount);
@@ -984,7 +1020,10 @@ mod tests {
         // '·' is two bytes in UTF-8 but one character.
         let e = error("CaSO4·2H2Xx");
         assert_eq!(e.position(), 10);
-        assert_eq!(e.to_string(), "unknown element symbol \"Xx\" at character 10");
+        assert_eq!(
+            e.to_string(),
+            "unknown element symbol \"Xx\" at character 10"
+        );
     }
 
     #[test]

@@ -8,8 +8,8 @@
 
 use super::observe::Observations;
 use super::result::{Candidate, Caution, CautionCode};
-use crate::base::vocab::{Habit, Hazard};
 use crate::base::Base;
+use crate::base::vocab::{Habit, Hazard};
 
 /// Candidates at or above this probability raise their hazards (contract).
 pub const CAUTION_THRESHOLD: f64 = 0.05;

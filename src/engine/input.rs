@@ -142,7 +142,10 @@ fn classify(
         // Well-formed JSON, but not a finite f64.
         return InputError::Invalid(FieldError::new(
             path.clone(),
-            format!("the number is too large to be finite; expected {}", describe(&shape_of(&path))),
+            format!(
+                "the number is too large to be finite; expected {}",
+                describe(&shape_of(&path))
+            ),
         ));
     }
     if let Some(rest) = msg.strip_prefix("unknown field ") {
@@ -179,18 +182,26 @@ fn classify(
         let got = between_backticks(rest).unwrap_or("");
         return InputError::Invalid(FieldError::new(
             path,
-            format!("\"{got}\" is not allowed (values are lower case, as listed); expected {allowed}"),
+            format!(
+                "\"{got}\" is not allowed (values are lower case, as listed); expected {allowed}"
+            ),
         ));
     }
     if let Some(rest) = msg.strip_prefix("invalid type: ") {
         let got = rest.split(", expected").next().unwrap_or(rest);
-        return InputError::Invalid(FieldError::new(path, format!("got {got}; expected {allowed}")));
+        return InputError::Invalid(FieldError::new(
+            path,
+            format!("got {got}; expected {allowed}"),
+        ));
     }
     if msg.starts_with("missing field") {
         let name = between_backticks(&msg).unwrap_or("");
         return InputError::Invalid(FieldError::new(
             join(&path, name),
-            format!("\"{name}\" is required here; expected {}", describe(&shape_of(&path))),
+            format!(
+                "\"{name}\" is required here; expected {}",
+                describe(&shape_of(&path))
+            ),
         ));
     }
     InputError::Invalid(FieldError::new(path, format!("{msg}; expected {allowed}")))
@@ -269,11 +280,23 @@ mod tests {
             (r#"{"magnetic": 1}"#, "magnetic"),
             (r#"{"specific_gravity": "2.8"}"#, "specific_gravity"),
             (r#"{"specific_gravity": [2.8]}"#, "specific_gravity"),
-            (r#"{"specific_gravity": {"dry_mass_g": 10}}"#, "specific_gravity.submerged_mass_g"),
-            (r#"{"specific_gravity": {"dry_mass_g": 10, "submerged_mass_g": 6, "bath": 1}}"#, "specific_gravity.bath"),
+            (
+                r#"{"specific_gravity": {"dry_mass_g": 10}}"#,
+                "specific_gravity.submerged_mass_g",
+            ),
+            (
+                r#"{"specific_gravity": {"dry_mass_g": 10, "submerged_mass_g": 6, "bath": 1}}"#,
+                "specific_gravity.bath",
+            ),
             (r#"{"hardness": {"min": 1e999}}"#, "hardness.min"),
-            (r#"{"cleavage": "one_perfect", "cleavage": "none_visible"}"#, "cleavage"),
-            (r#"{"scratch": {"steel": true, "steel": false}}"#, "scratch.steel"),
+            (
+                r#"{"cleavage": "one_perfect", "cleavage": "none_visible"}"#,
+                "cleavage",
+            ),
+            (
+                r#"{"scratch": {"steel": true, "steel": false}}"#,
+                "scratch.steel",
+            ),
         ];
         for (json, field) in cases {
             let e = invalid(json);
@@ -301,7 +324,14 @@ mod tests {
 
     #[test]
     fn a_body_that_is_not_json_is_malformed() {
-        for body in [&b"{"[..], b"", b"cleavage=one_perfect", b"{\"cleavage\": }", b"{} {}", b"\xff\xfe{}"] {
+        for body in [
+            &b"{"[..],
+            b"",
+            b"cleavage=one_perfect",
+            b"{\"cleavage\": }",
+            b"{} {}",
+            b"\xff\xfe{}",
+        ] {
             assert_eq!(malformed(body).field, "", "{body:?}");
         }
         malformed(b"{\"colour\": [\"gr\xffen\"]}");

@@ -90,13 +90,14 @@ pub fn hardness_reading(o: &Observations) -> Option<HardnessReading> {
             highs.push((v + HARDNESS_HALF_STEP, "the hardness given"));
         }
     }
-    let mut tool = |scratches: Option<bool>, h: f64, what_yes: &'static str, what_no: &'static str| {
-        match scratches {
-            Some(true) => highs.push((h, what_yes)),
-            Some(false) => lows.push((h, what_no)),
-            None => {}
-        }
-    };
+    let mut tool =
+        |scratches: Option<bool>, h: f64, what_yes: &'static str, what_no: &'static str| {
+            match scratches {
+                Some(true) => highs.push((h, what_yes)),
+                Some(false) => lows.push((h, what_no)),
+                None => {}
+            }
+        };
     if let Some(s) = o.scratch {
         tool(
             s.fingernail,
@@ -312,8 +313,24 @@ mod tests {
     fn the_interval_probability_matches_numerical_integration() {
         let cases = [
             (Interval { lo: 2.0, hi: 3.0 }, 2.5, 3.0, 0.5),
-            (Interval { lo: 5.5, hi: f64::INFINITY }, 2.0, 2.5, 0.5),
-            (Interval { lo: f64::NEG_INFINITY, hi: 2.5 }, 1.0, 1.5, 0.3),
+            (
+                Interval {
+                    lo: 5.5,
+                    hi: f64::INFINITY,
+                },
+                2.0,
+                2.5,
+                0.5,
+            ),
+            (
+                Interval {
+                    lo: f64::NEG_INFINITY,
+                    hi: 2.5,
+                },
+                1.0,
+                1.5,
+                0.3,
+            ),
             (Interval { lo: 2.7, hi: 2.9 }, 2.76, 2.88, 0.05),
         ];
         for (obs, a, b, s) in cases {
@@ -321,19 +338,33 @@ mod tests {
             let mut sum = 0.0;
             for i in 0..n {
                 let h = a + (b - a) * (i as f64 + 0.5) / n as f64;
-                let hi = if obs.hi.is_finite() { phi_cdf((obs.hi - h) / s) } else { 1.0 };
-                let lo = if obs.lo.is_finite() { phi_cdf((obs.lo - h) / s) } else { 0.0 };
+                let hi = if obs.hi.is_finite() {
+                    phi_cdf((obs.hi - h) / s)
+                } else {
+                    1.0
+                };
+                let lo = if obs.lo.is_finite() {
+                    phi_cdf((obs.lo - h) / s)
+                } else {
+                    0.0
+                };
                 sum += hi - lo;
             }
             let numeric = sum / n as f64;
             let closed = interval_probability(obs, a, b, s);
-            assert!((numeric - closed).abs() < 1e-6, "{obs:?} {a} {b}: {numeric} vs {closed}");
+            assert!(
+                (numeric - closed).abs() < 1e-6,
+                "{obs:?} {a} {b}: {numeric} vs {closed}"
+            );
         }
     }
 
     #[test]
     fn an_open_interval_over_everything_is_certain() {
-        let all = Interval { lo: f64::NEG_INFINITY, hi: f64::INFINITY };
+        let all = Interval {
+            lo: f64::NEG_INFINITY,
+            hi: f64::INFINITY,
+        };
         assert!((interval_probability(all, 2.0, 3.0, 0.5) - 1.0).abs() < 1e-12);
         assert!((interval_probability(all, 3.0, 3.0, 0.5) - 1.0).abs() < 1e-12);
     }
@@ -341,7 +372,11 @@ mod tests {
     #[test]
     fn scratch_tests_bracket_the_hardness() {
         let o = Observations {
-            scratch: Some(ScratchObs { fingernail: Some(false), copper: Some(true), steel: None }),
+            scratch: Some(ScratchObs {
+                fingernail: Some(false),
+                copper: Some(true),
+                steel: None,
+            }),
             ..Default::default()
         };
         let r = hardness_reading(&o).expect("has hardness");
@@ -352,7 +387,10 @@ mod tests {
     #[test]
     fn glass_puts_a_lower_bound_and_a_conflict_is_reported_not_refused() {
         let o = Observations {
-            hardness: Some(HardnessObs { min: Some(2.0), max: Some(3.0) }),
+            hardness: Some(HardnessObs {
+                min: Some(2.0),
+                max: Some(3.0),
+            }),
             scratches_glass: Some(true),
             ..Default::default()
         };
@@ -364,7 +402,10 @@ mod tests {
     #[test]
     fn no_hardness_observation_gives_no_reading() {
         assert!(hardness_reading(&Observations::default()).is_none());
-        let empty_scratch = Observations { scratch: Some(ScratchObs::default()), ..Default::default() };
+        let empty_scratch = Observations {
+            scratch: Some(ScratchObs::default()),
+            ..Default::default()
+        };
         assert!(hardness_reading(&empty_scratch).is_none());
     }
 }

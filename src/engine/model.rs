@@ -14,12 +14,10 @@
 use crate::base::vocab::{Group, Vocab, YesNo};
 use crate::base::{Base, Entry, Values};
 
+use super::Property;
 use super::measure::{self, HARDNESS_SIGMA, Interval, SG_VALUE_SIGMA};
 use super::observe::{Observations, SgObs};
-use super::result::{
-    Candidate, Derived, Evidence, GroupProbability, Identification, SgDerived,
-};
-use super::Property;
+use super::result::{Candidate, Derived, Evidence, GroupProbability, Identification, SgDerived};
 
 /// Weight of a typical value before normalisation.
 pub const TYPICAL_WEIGHT: f64 = 1.0;
@@ -79,10 +77,26 @@ pub fn observer_error(p: Property) -> f64 {
 /// Answer bins for hardness questions: what a fingernail, copper and steel
 /// can tell apart (common practice reference hardnesses).
 pub const HARDNESS_BINS: [(f64, f64, &str); 4] = [
-    (f64::NEG_INFINITY, measure::reference::FINGERNAIL, "softer than a fingernail (below 2.5)"),
-    (measure::reference::FINGERNAIL, measure::reference::COPPER, "between fingernail and copper (2.5 to 3.5)"),
-    (measure::reference::COPPER, measure::reference::STEEL, "between copper and steel (3.5 to 5.5)"),
-    (measure::reference::STEEL, f64::INFINITY, "harder than steel (above 5.5)"),
+    (
+        f64::NEG_INFINITY,
+        measure::reference::FINGERNAIL,
+        "softer than a fingernail (below 2.5)",
+    ),
+    (
+        measure::reference::FINGERNAIL,
+        measure::reference::COPPER,
+        "between fingernail and copper (2.5 to 3.5)",
+    ),
+    (
+        measure::reference::COPPER,
+        measure::reference::STEEL,
+        "between copper and steel (3.5 to 5.5)",
+    ),
+    (
+        measure::reference::STEEL,
+        f64::INFINITY,
+        "harder than steel (above 5.5)",
+    ),
 ];
 
 /// Answer bins for specific-gravity questions, spaced to split the base's
@@ -199,7 +213,11 @@ fn row_for(p: Property, e: &Entry) -> Vec<f64> {
         Property::Hardness => HARDNESS_BINS
             .iter()
             .map(|(lo, hi, _)| {
-                hardness_likelihood(Interval { lo: *lo, hi: *hi }, e.hardness.min, e.hardness.max)
+                hardness_likelihood(
+                    Interval { lo: *lo, hi: *hi },
+                    e.hardness.min,
+                    e.hardness.max,
+                )
             })
             .collect(),
         Property::SpecificGravity => SG_BINS
@@ -313,7 +331,12 @@ impl Engine {
         &self.tables[prop_index(p)]
     }
 
-    fn prepare(&self, o: &Observations, derived: &mut Derived, notes: &mut Vec<String>) -> Vec<(Property, Scored)> {
+    fn prepare(
+        &self,
+        o: &Observations,
+        derived: &mut Derived,
+        notes: &mut Vec<String>,
+    ) -> Vec<(Property, Scored)> {
         use crate::base::vocab::Vocab as _;
         let mut out = Vec::new();
         let mut cat = |p: Property, idx: Option<usize>| {
@@ -329,13 +352,22 @@ impl Engine {
         cat(Property::WetBehaviour, o.wet_behaviour.map(|v| v.index()));
         cat(Property::Streak, o.streak.map(|v| v.index()));
         cat(Property::Diaphaneity, o.diaphaneity.map(|v| v.index()));
-        cat(Property::Magnetic, o.magnetic.map(|v| YesNo::from(v).index()));
-        cat(Property::AcidReaction, o.acid_reaction.map(|v| YesNo::from(v).index()));
+        cat(
+            Property::Magnetic,
+            o.magnetic.map(|v| YesNo::from(v).index()),
+        );
+        cat(
+            Property::AcidReaction,
+            o.acid_reaction.map(|v| YesNo::from(v).index()),
+        );
         cat(Property::Setting, o.setting.map(|v| v.index()));
         if let Some(colours) = &o.colour
             && !colours.is_empty()
         {
-            out.push((Property::Colour, Scored::Cat(colours.iter().map(|c| c.index()).collect())));
+            out.push((
+                Property::Colour,
+                Scored::Cat(colours.iter().map(|c| c.index()).collect()),
+            ));
         }
         if let Some(h) = measure::hardness_reading(o) {
             derived.hardness = Some([
@@ -355,10 +387,19 @@ impl Engine {
                     (r.value, 0.005, r.sigma, r.sigma)
                 }
             };
-            derived.specific_gravity = Some(SgDerived { value, uncertainty: unc });
+            derived.specific_gravity = Some(SgDerived {
+                value,
+                uncertainty: unc,
+            });
             out.push((
                 Property::SpecificGravity,
-                Scored::Sg(Interval { lo: value - half, hi: value + half }, sigma),
+                Scored::Sg(
+                    Interval {
+                        lo: value - half,
+                        hi: value + half,
+                    },
+                    sigma,
+                ),
             ));
         }
         out
@@ -373,17 +414,22 @@ impl Engine {
                 // geometric mean asks the entry to explain every one of them
                 // without penalising a longer description.
                 let n = idx.len().max(1) as f64;
-                let per_entry = t
-                    .p
-                    .iter()
-                    .map(|row| {
-                        let ln: f64 = idx
-                            .iter()
-                            .map(|&i| row.get(i).copied().unwrap_or(0.0).max(f64::MIN_POSITIVE).ln())
-                            .sum();
-                        (ln / n).exp()
-                    })
-                    .collect();
+                let per_entry =
+                    t.p.iter()
+                        .map(|row| {
+                            let ln: f64 = idx
+                                .iter()
+                                .map(|&i| {
+                                    row.get(i)
+                                        .copied()
+                                        .unwrap_or(0.0)
+                                        .max(f64::MIN_POSITIVE)
+                                        .ln()
+                                })
+                                .sum();
+                            (ln / n).exp()
+                        })
+                        .collect();
                 (per_entry, OUTSIDE_MATCH_FACTOR * t.outside)
             }
             Scored::Hardness(iv) => {
@@ -395,17 +441,25 @@ impl Engine {
                     .collect();
                 // A mineral that fits: a range of typical width inside what was seen.
                 let (a, b) = virtual_range(*iv, self.hardness_width, 1.0, 10.0);
-                (per_entry, OUTSIDE_MATCH_FACTOR * hardness_likelihood(*iv, a, b))
+                (
+                    per_entry,
+                    OUTSIDE_MATCH_FACTOR * hardness_likelihood(*iv, a, b),
+                )
             }
             Scored::Sg(iv, sigma) => {
                 let per_entry = self
                     .base
                     .entries
                     .iter()
-                    .map(|e| sg_likelihood(*iv, *sigma, e.specific_gravity.min, e.specific_gravity.max))
+                    .map(|e| {
+                        sg_likelihood(*iv, *sigma, e.specific_gravity.min, e.specific_gravity.max)
+                    })
                     .collect();
                 let (a, b) = virtual_range(*iv, self.sg_width, 1.0, 8.0);
-                (per_entry, OUTSIDE_MATCH_FACTOR * sg_likelihood(*iv, *sigma, a, b))
+                (
+                    per_entry,
+                    OUTSIDE_MATCH_FACTOR * sg_likelihood(*iv, *sigma, a, b),
+                )
             }
         }
     }
@@ -456,11 +510,22 @@ impl Engine {
                     probability: probs[i],
                     sheet_silicate: e.sheet_silicate,
                     group: e.group,
-                    agrees: ev.iter().filter(|(_, b)| *b > AGREE_BITS).map(|(p, _)| *p).collect(),
-                    conflicts: ev.iter().filter(|(_, b)| *b < CONFLICT_BITS).map(|(p, _)| *p).collect(),
+                    agrees: ev
+                        .iter()
+                        .filter(|(_, b)| *b > AGREE_BITS)
+                        .map(|(p, _)| *p)
+                        .collect(),
+                    conflicts: ev
+                        .iter()
+                        .filter(|(_, b)| *b < CONFLICT_BITS)
+                        .map(|(p, _)| *p)
+                        .collect(),
                     evidence: ev
                         .iter()
-                        .map(|(p, b)| Evidence { property: *p, bits: (b * 1000.0).round() / 1000.0 })
+                        .map(|(p, b)| Evidence {
+                            property: *p,
+                            bits: (b * 1000.0).round() / 1000.0,
+                        })
                         .collect(),
                 }
             })
@@ -470,10 +535,18 @@ impl Engine {
             .iter()
             .map(|g| GroupProbability {
                 id: *g,
-                probability: candidates.iter().filter(|c| c.group == *g).map(|c| c.probability).sum(),
+                probability: candidates
+                    .iter()
+                    .filter(|c| c.group == *g)
+                    .map(|c| c.probability)
+                    .sum(),
             })
             .collect();
-        groups.sort_by(|a, b| b.probability.total_cmp(&a.probability).then(a.id.cmp(&b.id)));
+        groups.sort_by(|a, b| {
+            b.probability
+                .total_cmp(&a.probability)
+                .then(a.id.cmp(&b.id))
+        });
 
         let next_questions = self.next_questions(o, &probs);
         let separating_test = self.separating_test(o, &probs, &order);
@@ -521,7 +594,11 @@ impl Engine {
 fn typical_mean(p: Property, e: &Entry, row: &[f64]) -> f64 {
     fn mean<T: Vocab>(v: &Values<T>, row: &[f64]) -> f64 {
         let n = v.typical.len().max(1) as f64;
-        v.typical.iter().map(|t| row.get(t.index()).copied().unwrap_or(0.0)).sum::<f64>() / n
+        v.typical
+            .iter()
+            .map(|t| row.get(t.index()).copied().unwrap_or(0.0))
+            .sum::<f64>()
+            / n
     }
     match p {
         Property::Cleavage => mean(&e.cleavage, row),

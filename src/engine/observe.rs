@@ -176,10 +176,18 @@ pub struct Observations {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tenacity: Option<Tenacity>,
     /// Mohs hardness interval.
-    #[serde(default, deserialize_with = "object_only", skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        deserialize_with = "object_only",
+        skip_serializing_if = "Option::is_none"
+    )]
     pub hardness: Option<HardnessObs>,
     /// Scratch tests.
-    #[serde(default, deserialize_with = "object_only", skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        deserialize_with = "object_only",
+        skip_serializing_if = "Option::is_none"
+    )]
     pub scratch: Option<ScratchObs>,
     /// The specimen scratches window glass.
     #[serde(default, skip_serializing_if = "Option::is_none")]

@@ -6,10 +6,10 @@
 //! fingernail, copper and steel can tell apart; specific gravity as bins
 //! that split the base's light, ordinary, heavy and ore minerals.
 
+use super::Property;
 use super::model::Engine;
 use super::observe::Observations;
 use super::result::{Outcome, Question, SeparatingTest};
-use super::Property;
 
 /// Entropy in bits of a (possibly unnormalised) weight vector.
 fn entropy_bits(w: impl Iterator<Item = f64> + Clone) -> f64 {

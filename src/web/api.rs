@@ -49,7 +49,11 @@ pub fn require_json(headers: &HeaderMap) -> Result<()> {
         .and_then(|v| v.to_str().ok())
         .and_then(|v| v.split(';').next())
         .is_some_and(|m| m.trim().eq_ignore_ascii_case("application/json"));
-    if ok { Ok(()) } else { Err(ApiError::UnsupportedMediaType) }
+    if ok {
+        Ok(())
+    } else {
+        Err(ApiError::UnsupportedMediaType)
+    }
 }
 
 /// Maps a body-reading failure: over the limit is 413, anything else 400.
@@ -58,7 +62,10 @@ pub fn body_bytes(body: std::result::Result<Bytes, BytesRejection>) -> Result<By
         if rej.status() == StatusCode::PAYLOAD_TOO_LARGE {
             ApiError::TooLarge
         } else {
-            ApiError::BadRequest(FieldError::new("", format!("the body could not be read: {rej}")))
+            ApiError::BadRequest(FieldError::new(
+                "",
+                format!("the body could not be read: {rej}"),
+            ))
         }
     })
 }
@@ -137,6 +144,9 @@ async fn mineral(State(st): State<AppState>, Path(id): Path<String>) -> Result<i
             format!("no mineral with id \"{id}\"; GET /api/v1/minerals lists every id"),
         ))
     })?;
-    let body = MineralOne { base_version: &base.version, mineral: view(&st, e) };
+    let body = MineralOne {
+        base_version: &base.version,
+        mineral: view(&st, e),
+    };
     Ok(Json(serde_json::to_value(body).unwrap_or_default()))
 }

@@ -9,8 +9,8 @@ use axum::http::StatusCode;
 use axum::response::{IntoResponse, Response};
 use serde::Serialize;
 
-use crate::engine::input::InputError;
 use crate::engine::FieldError;
+use crate::engine::input::InputError;
 
 /// Result of a web handler.
 pub type Result<T, E = ApiError> = std::result::Result<T, E>;
@@ -59,7 +59,13 @@ impl IntoResponse for ApiError {
             ApiError::NotFound(f) => (StatusCode::NOT_FOUND, f),
             ApiError::TooLarge => (
                 StatusCode::PAYLOAD_TOO_LARGE,
-                FieldError::new("", format!("the body is larger than {} KiB; send at most that", super::api::BODY_LIMIT / 1024)),
+                FieldError::new(
+                    "",
+                    format!(
+                        "the body is larger than {} KiB; send at most that",
+                        super::api::BODY_LIMIT / 1024
+                    ),
+                ),
             ),
             ApiError::UnsupportedMediaType => (
                 StatusCode::UNSUPPORTED_MEDIA_TYPE,
@@ -70,7 +76,10 @@ impl IntoResponse for ApiError {
                 tracing::error!(error.cause = %cause, "internal error");
                 (
                     StatusCode::INTERNAL_SERVER_ERROR,
-                    FieldError::new("", "something went wrong on the server; nothing was changed. Try again, and report it if it persists."),
+                    FieldError::new(
+                        "",
+                        "something went wrong on the server; nothing was changed. Try again, and report it if it persists.",
+                    ),
                 )
             }
         };

@@ -16,12 +16,10 @@ use crate::engine::FieldError;
 
 /// Routes of the pages and the stylesheet.
 pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/", get(home))
-        .nest_service(
-            "/static",
-            ServeDir::new(concat!(env!("CARGO_MANIFEST_DIR"), "/static")),
-        )
+    Router::new().route("/", get(home)).nest_service(
+        "/static",
+        ServeDir::new(concat!(env!("CARGO_MANIFEST_DIR"), "/static")),
+    )
 }
 
 /// A base entry as the home page lists it.
@@ -55,7 +53,11 @@ async fn home(State(st): State<AppState>) -> HomePage {
         entries: base
             .entries
             .iter()
-            .map(|e| EntryLine { id: e.id.clone(), name: e.name.clone(), group: e.group.label() })
+            .map(|e| EntryLine {
+                id: e.id.clone(),
+                name: e.name.clone(),
+                group: e.group.label(),
+            })
             .collect(),
     }
 }

@@ -35,9 +35,17 @@ impl Reply {
     /// Asserts the contract's error shape and returns (field, message).
     pub fn error(&self) -> (String, String) {
         let v = self.json();
-        let e = v.get("error").unwrap_or_else(|| panic!("no error object: {v}"));
-        let field = e["field"].as_str().unwrap_or_else(|| panic!("no field: {v}")).to_string();
-        let message = e["message"].as_str().unwrap_or_else(|| panic!("no message: {v}")).to_string();
+        let e = v
+            .get("error")
+            .unwrap_or_else(|| panic!("no error object: {v}"));
+        let field = e["field"]
+            .as_str()
+            .unwrap_or_else(|| panic!("no field: {v}"))
+            .to_string();
+        let message = e["message"]
+            .as_str()
+            .unwrap_or_else(|| panic!("no message: {v}"))
+            .to_string();
         assert!(!message.is_empty(), "empty message: {v}");
         (field, message)
     }
@@ -48,24 +56,50 @@ impl TestApp {
         let dir = tempfile::tempdir().expect("tempdir");
         let db_path = dir.path().join("basal.sqlite");
         let db = basal::store::open(&db_path).await.expect("open db");
-        let config = Config { listen: "127.0.0.1:0".parse().expect("addr"), db: db_path };
-        let state = AppState { db, engine: Engine::builtin(), config: Arc::new(config) };
-        TestApp { router: app(state), _dir: dir }
+        let config = Config {
+            listen: "127.0.0.1:0".parse().expect("addr"),
+            db: db_path,
+        };
+        let state = AppState {
+            db,
+            engine: Engine::builtin(),
+            config: Arc::new(config),
+        };
+        TestApp {
+            router: app(state),
+            _dir: dir,
+        }
     }
 
     pub async fn send(&self, req: Request<Body>) -> Reply {
         let resp = self.router.clone().oneshot(req).await.expect("infallible");
         let status = resp.status();
         let headers = resp.headers().clone();
-        let body = resp.into_body().collect().await.expect("body").to_bytes().to_vec();
-        Reply { status, headers, body }
+        let body = resp
+            .into_body()
+            .collect()
+            .await
+            .expect("body")
+            .to_bytes()
+            .to_vec();
+        Reply {
+            status,
+            headers,
+            body,
+        }
     }
 
     pub async fn get(&self, uri: &str) -> Reply {
-        self.send(Request::get(uri).body(Body::empty()).expect("request")).await
+        self.send(Request::get(uri).body(Body::empty()).expect("request"))
+            .await
     }
 
-    pub async fn post_raw(&self, uri: &str, content_type: Option<&str>, body: impl Into<Body>) -> Reply {
+    pub async fn post_raw(
+        &self,
+        uri: &str,
+        content_type: Option<&str>,
+        body: impl Into<Body>,
+    ) -> Reply {
         let mut b = Request::post(uri);
         if let Some(ct) = content_type {
             b = b.header(header::CONTENT_TYPE, ct);
@@ -74,6 +108,11 @@ impl TestApp {
     }
 
     pub async fn identify(&self, body: &str) -> Reply {
-        self.post_raw("/api/v1/identify", Some("application/json"), body.to_string()).await
+        self.post_raw(
+            "/api/v1/identify",
+            Some("application/json"),
+            body.to_string(),
+        )
+        .await
     }
 }

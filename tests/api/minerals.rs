@@ -12,10 +12,16 @@ async fn the_base_lists_every_contract_entry_with_sources() {
     let v = r.json();
     let list = v["minerals"].as_array().expect("list");
     for id in basal::base::REQUIRED_IDS {
-        let m = list.iter().find(|m| m["id"] == *id).unwrap_or_else(|| panic!("{id} missing"));
+        let m = list
+            .iter()
+            .find(|m| m["id"] == *id)
+            .unwrap_or_else(|| panic!("{id} missing"));
         assert!(m["ideal_formula"].is_string() && m["group"].is_string());
         let src = &m["sources"]["hardness"];
-        assert!(src["citation"].as_str().is_some_and(|c| !c.is_empty()), "{id}: {src}");
+        assert!(
+            src["citation"].as_str().is_some_and(|c| !c.is_empty()),
+            "{id}: {src}"
+        );
         assert!(src["kind"].is_string());
     }
     assert!(v["base_version"].is_string());
