@@ -203,6 +203,54 @@ pub struct Entry {
     pub sources: BTreeMap<String, String>,
 }
 
+/// An entry's ideal composition, computed from its ideal formula.
+#[derive(Clone, Debug, Serialize)]
+pub struct IdealComposition {
+    /// The formula the figures are computed from.
+    pub formula: String,
+    /// Molar mass, g/mol (IUPAC 2021 standard atomic weights).
+    pub molar_mass_g_mol: f64,
+    /// Oxide weight percent, in analysis order; empty for sulfides and
+    /// native elements.
+    pub oxides: Vec<(String, f64)>,
+    /// Oxygen equivalent of F and Cl, subtracted from the oxide total.
+    pub halogen_correction: f64,
+    /// Element weight percent.
+    pub elements: Vec<(String, f64)>,
+    /// Bound water (all H as H2O), weight percent.
+    pub bound_water_wt_percent: f64,
+}
+
+impl Entry {
+    /// The ideal composition of this entry's end member.
+    pub fn ideal_composition(&self) -> Option<IdealComposition> {
+        let f = Formula::parse(&self.ideal_formula).ok()?;
+        let round = |x: f64| (x * 100.0).round() / 100.0;
+        let (oxides, halogen_correction) = match f.oxide_weight_percent() {
+            Ok(c) => (
+                c.components
+                    .iter()
+                    .map(|o| (o.name.clone(), round(o.wt_percent)))
+                    .collect(),
+                round(c.halogen_correction),
+            ),
+            Err(_) => (Vec::new(), 0.0),
+        };
+        Some(IdealComposition {
+            formula: self.ideal_formula.clone(),
+            molar_mass_g_mol: (f.molar_mass() * 1000.0).round() / 1000.0,
+            oxides,
+            halogen_correction,
+            elements: f
+                .weight_fractions()
+                .iter()
+                .map(|(e, w)| (e.symbol().to_string(), round(w * 100.0)))
+                .collect(),
+            bound_water_wt_percent: round(f.bound_water_wt_percent()),
+        })
+    }
+}
+
 /// The whole base.
 #[derive(Clone, Debug, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -457,6 +505,24 @@ mod tests {
             let e = base.entry(id).unwrap_or_else(|| panic!("{id} missing"));
             assert!(!e.sheet_silicate, "{id}");
             assert_eq!(e.group, Group::NotSheetSilicate, "{id}");
+        }
+    }
+
+    #[test]
+    fn every_entry_has_an_ideal_composition_that_adds_up() {
+        for e in &builtin().entries {
+            let c = e.ideal_composition().unwrap_or_else(|| panic!("{}", e.id));
+            let elements: f64 = c.elements.iter().map(|(_, w)| w).sum();
+            assert!(
+                (elements - 100.0).abs() < 0.1,
+                "{}: elements {elements}",
+                e.id
+            );
+            if !c.oxides.is_empty() {
+                let total: f64 =
+                    c.oxides.iter().map(|(_, w)| w).sum::<f64>() - c.halogen_correction;
+                assert!((total - 100.0).abs() < 0.1, "{}: oxides {total}", e.id);
+            }
         }
     }
 

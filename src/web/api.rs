@@ -97,6 +97,8 @@ struct MineralView<'a> {
     entry: &'a Entry,
     /// Property -> source (replaces the entry's key map).
     sources: BTreeMap<&'a str, SourceView<'a>>,
+    /// Ideal composition of the end member.
+    ideal_composition: Option<crate::base::IdealComposition>,
 }
 
 fn view<'a>(st: &'a AppState, e: &'a Entry) -> MineralView<'a> {
@@ -110,7 +112,11 @@ fn view<'a>(st: &'a AppState, e: &'a Entry) -> MineralView<'a> {
                 .map(|s| (prop.as_str(), SourceView { key, source: s }))
         })
         .collect();
-    MineralView { entry: e, sources }
+    MineralView {
+        entry: e,
+        sources,
+        ideal_composition: e.ideal_composition(),
+    }
 }
 
 #[derive(Serialize)]

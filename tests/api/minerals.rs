@@ -34,6 +34,21 @@ async fn one_mineral_by_id() {
     assert_eq!(v["mineral"]["id"], "talc");
     assert_eq!(v["mineral"]["group"], "talc_pyrophyllite");
     assert_eq!(v["mineral"]["ideal_formula"], "Mg3Si4O10(OH)2");
+    // Talc Mg3Si4O10(OH)2, ideal: SiO2 63.37, MgO 31.88, H2O 4.75 wt %
+    // (Handbook of Mineralogy, talc data sheet, ideal-formula column).
+    let oxides = v["mineral"]["ideal_composition"]["oxides"]
+        .as_array()
+        .expect("oxides");
+    let wt = |name: &str| {
+        oxides
+            .iter()
+            .find(|o| o[0] == name)
+            .and_then(|o| o[1].as_f64())
+            .expect("oxide")
+    };
+    assert!((wt("SiO2") - 63.37).abs() < 0.05);
+    assert!((wt("MgO") - 31.88).abs() < 0.05);
+    assert!((wt("H2O") - 4.75).abs() < 0.05);
 }
 
 #[tokio::test]
