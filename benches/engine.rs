@@ -27,6 +27,15 @@ fn benches(c: &mut Criterion) {
     c.bench_function("identify: nothing observed (ranks all 14 questions)", |b| {
         b.iter(|| engine.identify(black_box(&empty)))
     });
+    let mut no_intervals = full.clone();
+    no_intervals.hardness = None;
+    no_intervals.scratch = None;
+    no_intervals.scratches_glass = None;
+    no_intervals.specific_gravity = None;
+    c.bench_function(
+        "identify: every categorical property, no hardness or SG",
+        |b| b.iter(|| engine.identify(black_box(&no_intervals))),
+    );
     c.bench_function("parse and validate a full JSON request", |b| {
         let body = serde_json::to_vec(&full).expect("json");
         b.iter(|| observations_from_json(black_box(&body)))

@@ -23,7 +23,7 @@ fn identify(v: Value) -> Identification {
 fn rank_of(id: &Identification, entry: &str) -> usize {
     id.candidates
         .iter()
-        .position(|c| c.id == entry)
+        .position(|c| &*c.id == entry)
         .map_or(usize::MAX, |i| i + 1)
 }
 
@@ -104,7 +104,7 @@ fn classic_handbook_specimens_rank_first() {
     for (want, obs) in classics() {
         let id = identify(obs.clone());
         assert_eq!(
-            id.candidates[0].id,
+            &*id.candidates[0].id,
             want,
             "{obs}: got {:?}",
             &id.candidates[..3]
@@ -310,7 +310,7 @@ fn a_clay_raises_the_dust_caution() {
         "setting": "weathering_profile"}),
     );
     assert_eq!(
-        id.candidates[0].id,
+        &*id.candidates[0].id,
         "kaolinite",
         "{:?}",
         &id.candidates[..3]
@@ -334,7 +334,7 @@ fn the_leaders_explain_themselves() {
     let musc = id
         .candidates
         .iter()
-        .find(|c| c.id == "muscovite")
+        .find(|c| &*c.id == "muscovite")
         .expect("muscovite");
     assert!(musc.conflicts.contains(&Property::Streak), "{musc:?}");
     let tenacity = musc
@@ -344,7 +344,7 @@ fn the_leaders_explain_themselves() {
         .expect("scored");
     assert!(tenacity.bits < 0.0, "{musc:?}");
     let sep = id.separating_test.expect("a test remains");
-    assert_eq!(sep.first, top.id);
+    assert_eq!(sep.first, &*top.id);
     assert!(sep.expected_gain_bits > 0.0);
 }
 

@@ -37,7 +37,7 @@ fn score(engine: &Engine, case: &Case) -> (Scored, String) {
     let mut ranked: Vec<(String, f64)> = id
         .candidates
         .iter()
-        .map(|c| (c.id.clone(), c.probability))
+        .map(|c| (c.id.to_string(), c.probability))
         .collect();
     ranked.push(("(outside)".to_string(), id.outside_base));
     ranked.sort_by(|a, b| b.1.total_cmp(&a.1));

@@ -11,6 +11,8 @@
 //! as a matching entry would, under a small prior, so it wins exactly when
 //! every entry carries conflicts.
 
+use std::sync::Arc;
+
 use crate::base::vocab::{Group, Vocab, YesNo};
 use crate::base::{Base, Entry, Values};
 
@@ -115,6 +117,8 @@ pub const SG_BINS: [(f64, f64, &str); 6] = [
 pub(crate) struct AnswerTable {
     /// `p[entry][answer]`; each row sums to 1.
     pub p: Vec<Vec<f64>>,
+    /// `ln p[entry][answer]`, so scoring a categorical answer takes no `ln`.
+    pub ln_p: Vec<Vec<f64>>,
     /// Answer labels (contract values for categorical properties).
     pub answers: Vec<String>,
     /// The outside model's score for a categorical observation.
@@ -125,6 +129,10 @@ pub(crate) struct AnswerTable {
 #[derive(Clone, Debug)]
 pub struct Engine {
     pub(crate) base: Base,
+    /// Entry ids, shared into every response without copying.
+    pub(crate) ids: Vec<Arc<str>>,
+    /// Entry names, likewise.
+    pub(crate) names: Vec<Arc<str>>,
     /// ln prior per entry, already scaled by `1 − OUTSIDE_PRIOR`.
     pub(crate) log_prior: Vec<f64>,
     /// One table per property, indexed by position in [`Property::ALL`].
@@ -258,8 +266,10 @@ fn answer_labels(p: Property) -> Vec<String> {
 
 /// An observation prepared for scoring.
 enum Scored {
-    /// Indices into the property's vocabulary (several for colour).
-    Cat(Vec<usize>),
+    /// One index into the property's vocabulary.
+    Cat(usize),
+    /// Several indices (colours).
+    Cats(Vec<usize>),
     /// A Mohs interval.
     Hardness(Interval),
     /// A specific-gravity interval and its measurement error.
@@ -288,6 +298,10 @@ impl Engine {
                         .collect(),
                 );
                 AnswerTable {
+                    ln_p: rows
+                        .iter()
+                        .map(|r| r.iter().map(|x| x.max(f64::MIN_POSITIVE).ln()).collect())
+                        .collect(),
                     p: rows,
                     answers: answer_labels(p),
                     outside,
@@ -296,6 +310,16 @@ impl Engine {
             .collect();
         Engine {
             base: base.clone(),
+            ids: base
+                .entries
+                .iter()
+                .map(|e| Arc::from(e.id.as_str()))
+                .collect(),
+            names: base
+                .entries
+                .iter()
+                .map(|e| Arc::from(e.name.as_str()))
+                .collect(),
             log_prior,
             tables,
             hardness_width: median(
@@ -341,7 +365,7 @@ impl Engine {
         let mut out = Vec::new();
         let mut cat = |p: Property, idx: Option<usize>| {
             if let Some(i) = idx {
-                out.push((p, Scored::Cat(vec![i])));
+                out.push((p, Scored::Cat(i)));
             }
         };
         cat(Property::Cleavage, o.cleavage.map(|v| v.index()));
@@ -366,7 +390,7 @@ impl Engine {
         {
             out.push((
                 Property::Colour,
-                Scored::Cat(colours.iter().map(|c| c.index()).collect()),
+                Scored::Cats(colours.iter().map(|c| c.index()).collect()),
             ));
         }
         if let Some(h) = measure::hardness_reading(o) {
@@ -405,61 +429,52 @@ impl Engine {
         out
     }
 
-    /// (likelihood for each entry, likelihood for the outside model)
-    fn likelihoods(&self, p: Property, s: &Scored) -> (Vec<f64>, f64) {
-        let t = self.table(p);
+    /// Natural-log likelihood of one observation for every entry, written
+    /// into `out` (one slot per entry); returns the outside model's.
+    fn log_likelihoods(&self, p: Property, s: &Scored, out: &mut [f64]) -> f64 {
+        let ln = |x: f64| x.max(f64::MIN_POSITIVE).ln();
         match s {
-            Scored::Cat(idx) => {
+            Scored::Cat(i) => {
+                let t = self.table(p);
+                for (slot, row) in out.iter_mut().zip(&t.ln_p) {
+                    *slot = row.get(*i).copied().unwrap_or(f64::MIN_POSITIVE.ln());
+                }
+                ln(OUTSIDE_MATCH_FACTOR * t.outside)
+            }
+            Scored::Cats(idx) => {
                 // Several colours describe one specimen together: the
                 // geometric mean asks the entry to explain every one of them
                 // without penalising a longer description.
+                let t = self.table(p);
                 let n = idx.len().max(1) as f64;
-                let per_entry =
-                    t.p.iter()
-                        .map(|row| {
-                            let ln: f64 = idx
-                                .iter()
-                                .map(|&i| {
-                                    row.get(i)
-                                        .copied()
-                                        .unwrap_or(0.0)
-                                        .max(f64::MIN_POSITIVE)
-                                        .ln()
-                                })
-                                .sum();
-                            (ln / n).exp()
-                        })
-                        .collect();
-                (per_entry, OUTSIDE_MATCH_FACTOR * t.outside)
+                for (slot, row) in out.iter_mut().zip(&t.ln_p) {
+                    *slot = idx
+                        .iter()
+                        .map(|&i| row.get(i).copied().unwrap_or(f64::MIN_POSITIVE.ln()))
+                        .sum::<f64>()
+                        / n;
+                }
+                ln(OUTSIDE_MATCH_FACTOR * t.outside)
             }
             Scored::Hardness(iv) => {
-                let per_entry = self
-                    .base
-                    .entries
-                    .iter()
-                    .map(|e| hardness_likelihood(*iv, e.hardness.min, e.hardness.max))
-                    .collect();
+                for (slot, e) in out.iter_mut().zip(&self.base.entries) {
+                    *slot = ln(hardness_likelihood(*iv, e.hardness.min, e.hardness.max));
+                }
                 // A mineral that fits: a range of typical width inside what was seen.
                 let (a, b) = virtual_range(*iv, self.hardness_width, 1.0, 10.0);
-                (
-                    per_entry,
-                    OUTSIDE_MATCH_FACTOR * hardness_likelihood(*iv, a, b),
-                )
+                ln(OUTSIDE_MATCH_FACTOR * hardness_likelihood(*iv, a, b))
             }
             Scored::Sg(iv, sigma) => {
-                let per_entry = self
-                    .base
-                    .entries
-                    .iter()
-                    .map(|e| {
-                        sg_likelihood(*iv, *sigma, e.specific_gravity.min, e.specific_gravity.max)
-                    })
-                    .collect();
+                for (slot, e) in out.iter_mut().zip(&self.base.entries) {
+                    *slot = ln(sg_likelihood(
+                        *iv,
+                        *sigma,
+                        e.specific_gravity.min,
+                        e.specific_gravity.max,
+                    ));
+                }
                 let (a, b) = virtual_range(*iv, self.sg_width, 1.0, 8.0);
-                (
-                    per_entry,
-                    OUTSIDE_MATCH_FACTOR * sg_likelihood(*iv, *sigma, a, b),
-                )
+                ln(OUTSIDE_MATCH_FACTOR * sg_likelihood(*iv, *sigma, a, b))
             }
         }
     }
@@ -475,15 +490,16 @@ impl Engine {
 
         let mut log_post: Vec<f64> = self.log_prior.clone();
         let mut log_out = OUTSIDE_PRIOR.ln();
-        let mut evidence: Vec<Vec<(Property, f64)>> = vec![Vec::with_capacity(prepared.len()); n];
-        for (p, s) in &prepared {
-            let (per_entry, out) = self.likelihoods(*p, s);
-            let ln_out = out.max(f64::MIN_POSITIVE).ln();
+        // evidence[i * k + j]: bits of observation j for entry i.
+        let k = prepared.len();
+        let mut evidence = vec![0.0; n * k];
+        let mut ln_l = vec![0.0; n];
+        for (j, (p, s)) in prepared.iter().enumerate() {
+            let ln_out = self.log_likelihoods(*p, s, &mut ln_l);
             log_out += ln_out;
-            for (i, l) in per_entry.iter().enumerate() {
-                let ln_l = l.max(f64::MIN_POSITIVE).ln();
-                log_post[i] += ln_l;
-                evidence[i].push((*p, (ln_l - ln_out) / std::f64::consts::LN_2));
+            for (i, l) in ln_l.iter().enumerate() {
+                log_post[i] += l;
+                evidence[i * k + j] = (l - ln_out) / std::f64::consts::LN_2;
             }
         }
         let max = log_post.iter().copied().fold(log_out, f64::max);
@@ -503,27 +519,29 @@ impl Engine {
             .iter()
             .map(|&i| {
                 let e = &self.base.entries[i];
-                let ev = &evidence[i];
+                let ev = || {
+                    prepared
+                        .iter()
+                        .zip(&evidence[i * k..(i + 1) * k])
+                        .map(|((p, _), b)| (*p, *b))
+                };
                 Candidate {
-                    id: e.id.clone(),
-                    name: e.name.clone(),
+                    id: self.ids[i].clone(),
+                    name: self.names[i].clone(),
                     probability: probs[i],
                     sheet_silicate: e.sheet_silicate,
                     group: e.group,
-                    agrees: ev
-                        .iter()
+                    agrees: ev()
                         .filter(|(_, b)| *b > AGREE_BITS)
-                        .map(|(p, _)| *p)
+                        .map(|(p, _)| p)
                         .collect(),
-                    conflicts: ev
-                        .iter()
+                    conflicts: ev()
                         .filter(|(_, b)| *b < CONFLICT_BITS)
-                        .map(|(p, _)| *p)
+                        .map(|(p, _)| p)
                         .collect(),
-                    evidence: ev
-                        .iter()
+                    evidence: ev()
                         .map(|(p, b)| Evidence {
-                            property: *p,
+                            property: p,
                             bits: (b * 1000.0).round() / 1000.0,
                         })
                         .collect(),

@@ -3,6 +3,8 @@
 //! These types serialise to the contract's JSON shape and deserialise back,
 //! so a stored identification snapshot reads as it was written.
 
+use std::sync::Arc;
+
 use serde::{Deserialize, Serialize};
 
 use super::Property;
@@ -11,10 +13,10 @@ use crate::base::vocab::Group;
 /// One base entry with its probability and reasons.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Candidate {
-    /// Entry id.
-    pub id: String,
+    /// Entry id (shared with the engine, not copied).
+    pub id: Arc<str>,
     /// Entry name.
-    pub name: String,
+    pub name: Arc<str>,
     /// Posterior probability.
     pub probability: f64,
     /// False for the lookalikes.
