@@ -567,7 +567,7 @@ impl Engine {
         });
 
         let next_questions = self.next_questions(o, &probs);
-        let separating_test = self.separating_test(o, &probs, &order);
+        let separating_test = self.separating_test(o, &order);
         let cautions = super::cautions::cautions(&self.base, &candidates, o);
         let laboratory = self.laboratory(&candidates, separating_test.as_ref());
 

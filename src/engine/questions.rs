@@ -78,12 +78,13 @@ impl Engine {
     pub(crate) fn separating_test(
         &self,
         o: &Observations,
-        probs: &[f64],
         order: &[usize],
     ) -> Option<SeparatingTest> {
         let (&i, &j) = (order.first()?, order.get(1)?);
         let pair = [i, j];
-        let w = [probs[i], probs[j]];
+        // Equal weights: how well a test tells these two apart, whatever
+        // their current odds (a lopsided pair would rank every test near zero).
+        let w = [0.5, 0.5];
         let (p, gain) = Property::ALL
             .iter()
             .filter(|p| !p.is_observed(o))
