@@ -83,9 +83,12 @@ pub fn init_tracing() {
     use tracing_subscriber::EnvFilter;
     let filter = EnvFilter::try_from_default_env()
         .unwrap_or_else(|_| EnvFilter::new("basal=info,tower_http=warn"));
+    // Colours only on a terminal: a log file or a pipe gets plain text.
+    let ansi = std::io::IsTerminal::is_terminal(&std::io::stdout());
     let _ = tracing_subscriber::fmt()
         .with_env_filter(filter)
         .with_target(false)
+        .with_ansi(ansi)
         .try_init();
 }
 
