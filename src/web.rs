@@ -6,6 +6,7 @@
 pub mod api;
 pub mod error;
 pub mod pages;
+pub mod reference;
 
 use std::future::Future;
 use std::sync::Arc;
@@ -45,6 +46,7 @@ pub fn app(state: AppState) -> Router {
     Router::new()
         .merge(api::router())
         .merge(pages::router())
+        .merge(reference::router())
         .fallback(pages::not_found)
         .with_state(state)
         .layer(SetResponseHeaderLayer::if_not_present(

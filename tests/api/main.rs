@@ -4,4 +4,5 @@
 mod helpers;
 mod identify;
 mod minerals;
+mod reference_pages;
 mod service;

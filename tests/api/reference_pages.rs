@@ -1,0 +1,1 @@
+//! Reference pages (`/minerals`, `/minerals/{id}`).
