@@ -15,6 +15,7 @@
 
 pub mod cautions;
 pub mod input;
+pub mod lookalikes;
 pub mod measure;
 pub mod model;
 pub mod observe;

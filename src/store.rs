@@ -6,6 +6,8 @@
 //! in the binary and run on open. SQLite-only features stay behind these
 //! functions so that a shared PostgreSQL server remains possible.
 
+pub mod drafts;
+
 use std::path::Path;
 use std::str::FromStr;
 use std::time::Duration;
@@ -36,12 +38,22 @@ pub enum StoreError {
         /// The sqlx error.
         source: sqlx::Error,
     },
+    /// A stored value does not decode (a bug or a hand-edited file).
+    #[error("stored {what} of {id} does not decode: {detail}")]
+    Corrupt {
+        /// What was being decoded.
+        what: &'static str,
+        /// The record.
+        id: String,
+        /// The decoder's message.
+        detail: String,
+    },
     /// A migration failed.
     #[error("database migration failed: {0}")]
     Migrate(#[from] sqlx::migrate::MigrateError),
 }
 
-trait Context<T> {
+pub(crate) trait Context<T> {
     fn context(self, what: &'static str) -> Result<T, StoreError>;
 }
 

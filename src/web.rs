@@ -4,9 +4,13 @@
 //! render. Errors become HTTP responses only here ([`error`]).
 
 pub mod api;
+pub mod csrf;
 pub mod error;
+pub mod flow;
+pub mod forms;
 pub mod pages;
 pub mod reference;
+pub mod views;
 
 use std::future::Future;
 use std::sync::Arc;
@@ -47,8 +51,10 @@ pub fn app(state: AppState) -> Router {
         .merge(api::router())
         .merge(pages::router())
         .merge(reference::router())
+        .merge(flow::router())
         .fallback(pages::not_found)
         .with_state(state)
+        .layer(axum::middleware::from_fn(csrf::layer))
         .layer(SetResponseHeaderLayer::if_not_present(
             header::CONTENT_SECURITY_POLICY,
             HeaderValue::from_static(CSP),

@@ -86,3 +86,50 @@ impl IntoResponse for ApiError {
         (status, Json(Body { error: &err })).into_response()
     }
 }
+
+/// An error answered with an HTML page (the pages' counterpart of
+/// [`ApiError`]).
+#[derive(Debug, thiserror::Error)]
+pub enum PageError {
+    /// 404: no such page or record.
+    #[error("not found: {0}")]
+    NotFound(String),
+    /// 403: a forged or stale form.
+    #[error("forbidden: {0}")]
+    Forbidden(String),
+    /// 500: a fault of ours; the cause is logged, never shown.
+    #[error("internal error: {0}")]
+    Internal(String),
+}
+
+impl From<crate::store::StoreError> for PageError {
+    fn from(e: crate::store::StoreError) -> Self {
+        PageError::Internal(e.to_string())
+    }
+}
+
+impl From<crate::store::StoreError> for ApiError {
+    fn from(e: crate::store::StoreError) -> Self {
+        ApiError::Internal(e.to_string())
+    }
+}
+
+impl IntoResponse for PageError {
+    fn into_response(self) -> Response {
+        let (status, title, message) = match self {
+            PageError::NotFound(m) => (StatusCode::NOT_FOUND, "Not found", m),
+            PageError::Forbidden(m) => (StatusCode::FORBIDDEN, "Form refused", m),
+            PageError::Internal(cause) => {
+                tracing::error!(error.cause = %cause, "internal error");
+                (
+                    StatusCode::INTERNAL_SERVER_ERROR,
+                    "Something went wrong",
+                    "Something went wrong on the server and nothing was changed. Try again; if it keeps happening, \
+                     restart basal (your records are safe in its database file)."
+                        .to_string(),
+                )
+            }
+        };
+        super::pages::error_page(status, title, message)
+    }
+}

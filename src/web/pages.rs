@@ -74,6 +74,22 @@ pub struct ErrorPage {
     pub message: String,
 }
 
+/// Renders the error page with a status; plain text if rendering fails.
+pub fn error_page(status: StatusCode, title: &'static str, message: String) -> Response {
+    let page = ErrorPage {
+        title,
+        base_version: crate::engine::Engine::builtin().base().version.clone(),
+        message,
+    };
+    match askama::Template::render(&page) {
+        Ok(html) => (status, axum::response::Html(html)).into_response(),
+        Err(e) => {
+            tracing::error!(error = %e, "error page did not render");
+            (status, page.message).into_response()
+        }
+    }
+}
+
 /// 404 for anything unrouted: the error shape under `/api/`, a page elsewhere.
 pub async fn not_found(State(st): State<AppState>, uri: Uri) -> Response {
     if uri.path().starts_with("/api/") {

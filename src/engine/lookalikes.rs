@@ -1,0 +1,518 @@
+//! Nearest lookalikes: for one entry, the entries the engine finds hardest
+//! to tell from it, and the tests that tell each pair apart best.
+//!
+//! Nothing here is written by hand: everything is computed from the engine's
+//! answer tables, which are built from the base (see [`super::model`]).
+//!
+//! # The measure
+//!
+//! For a property `p` the engine holds, per entry `e`, the probability
+//! `pₑ(a)` of every answer `a` a careful observer may give (each row sums
+//! to 1; hardness and specific gravity are asked as the answer bins of
+//! [`super::model::HARDNESS_BINS`] and [`super::model::SG_BINS`]). How much
+//! two entries `e` and `f` overlap on `p` is the Bhattacharyya coefficient
+//! of their answer distributions:
+//!
+//! ```text
+//! BCₚ(e, f) = Σₐ √( pₑ(a) · p_f(a) )          0 < BCₚ ≤ 1
+//! ```
+//!
+//! 1 means the test cannot tell them apart at all; near 0 means it always
+//! can (with even odds, the error of the best decision between `e` and `f`
+//! from test `p` alone is at most `BCₚ(e, f) / 2`). The similarity of two
+//! entries is the mean overlap over all 14 properties:
+//!
+//! ```text
+//! S(e, f) = (1/14) Σₚ BCₚ(e, f)                 0 < S ≤ 1
+//! ```
+//!
+//! that is, how little a test picked at random tells the pair apart. It
+//! leaves the priors out (a rare mineral is as much a lookalike of a common
+//! one as the other way round), it is symmetric, and `S(e, e) = 1`. The mean
+//! is chosen over the product `Πₚ BCₚ` (the overlap of the joint answer
+//! distributions) on purpose: a lookalike is what a specimen is taken for
+//! *before* the deciding test is made, so one decisive test (graphite
+//! against molybdenite on a balance) must not hide a pair that agrees on
+//! everything else.
+//!
+//! The nearest lookalikes of an entry are the [`NEAREST`] other entries of
+//! highest `S` (ties broken by id, so the list is deterministic), and one
+//! more when it comes within [`NEAR_TIE`] of the last of them, since cutting
+//! a near tie would be arbitrary. For each lookalike, the tests that separate
+//! the pair are the properties of lowest `BCₚ`: the best one always, and up
+//! to [`SEPARATORS`] in all while their overlap stays at or below
+//! [`WEAK_OVERLAP`]. The setting counts towards `S` but is not offered as a
+//! separating test: it is where the specimen was found, not something done
+//! to it.
+
+use crate::base::vocab::{Vocab, YesNo};
+use crate::base::{Entry, Range, Values};
+
+use super::Property;
+use super::model::Engine;
+
+/// How many lookalikes are always listed (when the base has that many).
+pub const NEAREST: usize = 3;
+
+/// A further lookalike is listed when its similarity falls short of the
+/// last listed one's by at most this much (a near tie: one test in 14
+/// overlapping 0.14 more or less).
+pub const NEAR_TIE: f64 = 0.01;
+
+/// At most this many separating tests are given per lookalike.
+pub const SEPARATORS: usize = 3;
+
+/// Above this overlap a test hardly tells the pair apart (it would decide
+/// against the right answer up to nearly half the time). Such tests are
+/// listed only when nothing better exists, and the pages then say that no
+/// hand test separates the pair well.
+pub const WEAK_OVERLAP: f64 = 0.9;
+
+/// One value an entry shows, as the contract names it and as people read it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Shown {
+    /// The contract value (`"elastic"`).
+    pub value: &'static str,
+    /// Its label for people (`"elastic (springs back)"`).
+    pub label: &'static str,
+}
+
+/// What an entry shows for one property: a list of vocabulary values, or a
+/// range of numbers.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Shows {
+    /// Categorical values (may be empty for occasional values).
+    Values(Vec<Shown>),
+    /// A Mohs hardness range.
+    Hardness(Range),
+    /// A specific-gravity range.
+    SpecificGravity(Range),
+}
+
+impl Shows {
+    /// Whether there is nothing to show (no occasional values).
+    pub fn is_empty(&self) -> bool {
+        matches!(self, Shows::Values(v) if v.is_empty())
+    }
+
+    /// Text for people: labels joined with "or", ranges as `2.5–3`.
+    pub fn labels(&self) -> String {
+        match self {
+            Shows::Values(v) => join_or(v.iter().map(|s| s.label)),
+            _ => self.to_string(),
+        }
+    }
+}
+
+impl std::fmt::Display for Shows {
+    /// Contract values joined with "or"; hardness as `2.5–3`, specific
+    /// gravity to two decimals as `2.77–2.88`.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Shows::Values(v) => f.write_str(&join_or(v.iter().map(|s| s.value))),
+            Shows::Hardness(r) if r.min == r.max => write!(f, "{}", r.min),
+            Shows::Hardness(r) => write!(f, "{}–{}", r.min, r.max),
+            Shows::SpecificGravity(r) if r.min == r.max => write!(f, "{:.2}", r.min),
+            Shows::SpecificGravity(r) => write!(f, "{:.2}–{:.2}", r.min, r.max),
+        }
+    }
+}
+
+fn join_or<'a>(items: impl Iterator<Item = &'a str>) -> String {
+    let items: Vec<&str> = items.collect();
+    match items.split_last() {
+        Some((last, rest)) if !rest.is_empty() => format!("{} or {last}", rest.join(", ")),
+        Some((last, _)) => (*last).to_string(),
+        None => String::new(),
+    }
+}
+
+fn shown<T: Vocab>(values: &[T]) -> Shows {
+    Shows::Values(
+        values
+            .iter()
+            .map(|v| Shown {
+                value: v.as_str(),
+                label: v.label(),
+            })
+            .collect(),
+    )
+}
+
+fn yes_no(values: &[bool]) -> Shows {
+    let v: Vec<YesNo> = values.iter().map(|b| YesNo::from(*b)).collect();
+    shown(&v)
+}
+
+/// Picks the typical or the occasional list of a property's values.
+fn pick<T>(v: &Values<T>, typical: bool) -> &[T] {
+    if typical { &v.typical } else { &v.occasional }
+}
+
+fn shows(e: &Entry, p: Property, typical: bool) -> Shows {
+    match p {
+        Property::Cleavage => shown(pick(&e.cleavage, typical)),
+        Property::Tenacity => shown(pick(&e.tenacity, typical)),
+        Property::Colour => shown(pick(&e.colour, typical)),
+        Property::Luster => shown(pick(&e.luster, typical)),
+        Property::Habit => shown(pick(&e.habit, typical)),
+        Property::Feel => shown(pick(&e.feel, typical)),
+        Property::WetBehaviour => shown(pick(&e.wet_behaviour, typical)),
+        Property::Streak => shown(pick(&e.streak, typical)),
+        Property::Diaphaneity => shown(pick(&e.diaphaneity, typical)),
+        Property::Magnetic => yes_no(pick(&e.magnetic, typical)),
+        Property::AcidReaction => yes_no(pick(&e.acid_reaction, typical)),
+        Property::Setting => shown(pick(&e.setting, typical)),
+        // A range has no occasional part: the range is what the base holds.
+        Property::Hardness if typical => Shows::Hardness(e.hardness),
+        Property::SpecificGravity if typical => Shows::SpecificGravity(e.specific_gravity),
+        Property::Hardness | Property::SpecificGravity => Shows::Values(Vec::new()),
+    }
+}
+
+/// What an entry typically shows for a property: its typical values, or its
+/// hardness or specific-gravity range.
+pub fn typical(e: &Entry, p: Property) -> Shows {
+    shows(e, p, true)
+}
+
+/// What an entry occasionally shows for a property (empty for hardness and
+/// specific gravity, whose ranges are given whole by [`typical`]).
+pub fn occasional(e: &Entry, p: Property) -> Shows {
+    shows(e, p, false)
+}
+
+/// How much entries `i` and `j` (positions in the base) overlap on `p`:
+/// the Bhattacharyya coefficient `Σₐ √(pᵢ(a) · pⱼ(a))`, in `(0, 1]`.
+/// Positions outside the base overlap nowhere (0).
+pub fn overlap(engine: &Engine, p: Property, i: usize, j: usize) -> f64 {
+    let t = engine.table(p);
+    match (t.p.get(i), t.p.get(j)) {
+        (Some(a), Some(b)) => a.iter().zip(b).map(|(x, y)| (x * y).sqrt()).sum(),
+        _ => 0.0,
+    }
+}
+
+/// The similarity of entries `i` and `j` over all 14 properties: the
+/// product of their per-property overlaps (see the module doc).
+pub fn similarity(engine: &Engine, i: usize, j: usize) -> f64 {
+    Property::ALL
+        .iter()
+        .map(|&p| overlap(engine, p, i, j))
+        .sum::<f64>()
+        / Property::ALL.len() as f64
+}
+
+/// A test that separates an entry from one of its lookalikes.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Separator {
+    /// The property to test.
+    pub property: Property,
+    /// Its overlap `BCₚ` for the pair (lower separates better).
+    pub overlap: f64,
+    /// What the entry itself typically shows.
+    pub this: Shows,
+    /// What the lookalike typically shows.
+    pub other: Shows,
+}
+
+/// One of an entry's nearest lookalikes.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Lookalike {
+    /// The lookalike's entry id.
+    pub id: String,
+    /// Its name.
+    pub name: String,
+    /// Similarity `S` to the entry, in `(0, 1]`.
+    pub similarity: f64,
+    /// The tests that separate the pair best, best first.
+    pub separators: Vec<Separator>,
+}
+
+impl Lookalike {
+    /// Whether even the best hand test hardly tells the pair apart
+    /// (its overlap is above [`WEAK_OVERLAP`]).
+    pub fn hard_to_separate(&self) -> bool {
+        self.separators
+            .first()
+            .is_none_or(|s| s.overlap > WEAK_OVERLAP)
+    }
+}
+
+/// The tests that separate entries `i` and `j` best, lowest overlap first
+/// (ties in the order of [`Property::ALL`]): the best one, and further ones
+/// up to [`SEPARATORS`] while their overlap is at most [`WEAK_OVERLAP`].
+/// The setting is left out. Empty only for a position outside the base.
+pub fn separators(engine: &Engine, i: usize, j: usize) -> Vec<Separator> {
+    let entries = &engine.base().entries;
+    let (Some(a), Some(b)) = (entries.get(i), entries.get(j)) else {
+        return Vec::new();
+    };
+    let mut tests: Vec<(Property, f64)> = Property::ALL
+        .iter()
+        .filter(|p| **p != Property::Setting)
+        .map(|&p| (p, overlap(engine, p, i, j)))
+        .collect();
+    // A stable sort keeps the order of Property::ALL among equal overlaps.
+    tests.sort_by(|x, y| x.1.total_cmp(&y.1));
+    tests
+        .into_iter()
+        .enumerate()
+        .take_while(|(k, (_, o))| *k == 0 || *o <= WEAK_OVERLAP)
+        .take(SEPARATORS)
+        .map(|(_, t)| t)
+        .map(|(property, overlap)| Separator {
+            property,
+            overlap,
+            this: typical(a, property),
+            other: typical(b, property),
+        })
+        .collect()
+}
+
+/// The nearest lookalikes of the entry with this id, most similar first;
+/// `None` when the base has no such entry. The entry itself is never among
+/// them.
+pub fn lookalikes(engine: &Engine, id: &str) -> Option<Vec<Lookalike>> {
+    let base = engine.base();
+    let i = base.index_of(id)?;
+    let mut ranked: Vec<(usize, f64)> = (0..base.entries.len())
+        .filter(|&j| j != i)
+        .map(|j| (j, similarity(engine, i, j)))
+        .collect();
+    ranked.sort_by(|x, y| {
+        y.1.total_cmp(&x.1)
+            .then_with(|| base.entries[x.0].id.cmp(&base.entries[y.0].id))
+    });
+    let mut keep = NEAREST.min(ranked.len());
+    if let (Some(last), Some(next)) = (keep.checked_sub(1).map(|k| ranked[k]), ranked.get(keep))
+        && next.1 >= last.1 - NEAR_TIE
+    {
+        keep += 1;
+    }
+    Some(
+        ranked
+            .into_iter()
+            .take(keep)
+            .map(|(j, s)| Lookalike {
+                id: base.entries[j].id.clone(),
+                name: base.entries[j].name.clone(),
+                similarity: s,
+                separators: separators(engine, i, j),
+            })
+            .collect(),
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn engine() -> &'static Engine {
+        Engine::builtin()
+    }
+
+    fn index(id: &str) -> usize {
+        engine()
+            .base()
+            .index_of(id)
+            .unwrap_or_else(|| panic!("{id} not in the base"))
+    }
+
+    fn nearest(id: &str) -> Vec<Lookalike> {
+        lookalikes(engine(), id).unwrap_or_else(|| panic!("{id} not in the base"))
+    }
+
+    fn ids(list: &[Lookalike]) -> Vec<&str> {
+        list.iter().map(|l| l.id.as_str()).collect()
+    }
+
+    /// The separators of a pair, by property.
+    fn separating(a: &str, b: &str) -> Vec<Property> {
+        separators(engine(), index(a), index(b))
+            .iter()
+            .map(|s| s.property)
+            .collect()
+    }
+
+    #[test]
+    fn every_answer_table_row_is_a_distribution() {
+        // The measure needs rows that sum to 1 (model.rs says they do).
+        let e = engine();
+        for p in Property::ALL {
+            for (i, row) in e.table(p).p.iter().enumerate() {
+                let total: f64 = row.iter().sum();
+                assert!((total - 1.0).abs() < 1e-6, "{p} row {i}: {total}");
+            }
+        }
+    }
+
+    #[test]
+    fn an_entry_overlaps_itself_completely() {
+        let e = engine();
+        for i in 0..e.base().entries.len() {
+            assert!((similarity(e, i, i) - 1.0).abs() < 1e-9);
+        }
+    }
+
+    #[test]
+    fn similarity_is_symmetric_and_between_zero_and_one() {
+        let e = engine();
+        let n = e.base().entries.len();
+        for i in 0..n {
+            for j in 0..n {
+                let (s, t) = (similarity(e, i, j), similarity(e, j, i));
+                assert_eq!(s, t, "{i} {j}");
+                assert!(s > 0.0 && s <= 1.0 + 1e-12, "{i} {j}: {s}");
+            }
+        }
+    }
+
+    #[test]
+    fn every_entry_gets_three_or_four_lookalikes_without_itself() {
+        for entry in &engine().base().entries {
+            let list = nearest(&entry.id);
+            assert!(
+                (3..=4).contains(&list.len()),
+                "{}: {}",
+                entry.id,
+                list.len()
+            );
+            assert!(
+                list.iter().all(|l| l.id != entry.id),
+                "{} lists itself",
+                entry.id
+            );
+            for w in list.windows(2) {
+                assert!(w[0].similarity >= w[1].similarity, "{}", entry.id);
+            }
+            for l in &list {
+                assert!(
+                    (1..=SEPARATORS).contains(&l.separators.len()),
+                    "{} / {}",
+                    entry.id,
+                    l.id
+                );
+                for w in l.separators.windows(2) {
+                    assert!(w[0].overlap <= w[1].overlap);
+                }
+                for s in l.separators.iter().skip(1) {
+                    assert!(s.overlap <= WEAK_OVERLAP, "{} / {}", entry.id, l.id);
+                }
+                assert!(
+                    l.separators.iter().all(|s| s.property != Property::Setting),
+                    "{} / {}",
+                    entry.id,
+                    l.id
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn dump() {
+        for entry in &engine().base().entries {
+            let list = nearest(&entry.id);
+            println!("{}:", entry.id);
+            for l in list {
+                let seps: Vec<String> = l
+                    .separators
+                    .iter()
+                    .map(|s| format!("{} {:.3} [{} | {}]", s.property, s.overlap, s.this, s.other))
+                    .collect();
+                println!("   {:14} {:.4}  {}", l.id, l.similarity, seps.join("; "));
+            }
+        }
+    }
+
+    #[test]
+    fn results_are_deterministic() {
+        for entry in &engine().base().entries {
+            assert_eq!(nearest(&entry.id), nearest(&entry.id));
+        }
+    }
+
+    #[test]
+    fn an_unknown_id_has_no_lookalikes() {
+        assert_eq!(lookalikes(engine(), "unobtainium"), None);
+    }
+
+    #[test]
+    fn muscovite_and_paragonite_are_each_others_lookalikes() {
+        // The two white micas cannot be told apart in hand specimen (from
+        // memory; the base's muscovite notes say the same).
+        assert!(ids(&nearest("muscovite")).contains(&"paragonite"));
+        assert!(ids(&nearest("paragonite")).contains(&"muscovite"));
+        let pair = nearest("muscovite")
+            .into_iter()
+            .find(|l| l.id == "paragonite")
+            .expect("paragonite listed");
+        assert!(pair.hard_to_separate(), "{pair:?}");
+    }
+
+    #[test]
+    fn chlorite_is_told_from_the_micas_by_tenacity_or_streak() {
+        // Chlorite flakes bend and stay bent, mica flakes spring back; dark
+        // chlorite streaks greenish (common practice).
+        for mica in ["muscovite", "biotite"] {
+            let tests = separating("chlorite", mica);
+            assert!(
+                tests.contains(&Property::Tenacity) || tests.contains(&Property::Streak),
+                "chlorite / {mica}: {tests:?}"
+            );
+        }
+        let s = &separators(engine(), index("muscovite"), index("chlorite"))[0];
+        assert_eq!(s.property, Property::Tenacity);
+        assert_eq!(s.this.to_string(), "elastic");
+        assert_eq!(s.other.to_string(), "flexible");
+    }
+
+    #[test]
+    fn graphite_is_told_from_molybdenite_by_specific_gravity() {
+        // Graphite about 2.2, molybdenite about 4.7 (Handbook of Mineralogy
+        // figures, from memory; the base gives 2.10–2.30 and 4.60–5.00).
+        let tests = separating("graphite", "molybdenite");
+        assert_eq!(tests.first(), Some(&Property::SpecificGravity), "{tests:?}");
+        let s = &separators(engine(), index("graphite"), index("molybdenite"))[0];
+        assert_eq!(s.this.to_string(), "2.10–2.30");
+        assert_eq!(s.other.to_string(), "4.60–5.00");
+        assert!(ids(&nearest("graphite")).contains(&"molybdenite"));
+    }
+
+    #[test]
+    fn lizardite_and_antigorite_are_near_each_other() {
+        // Both massive serpentines, told apart reliably only by XRD or thin
+        // section (common practice).
+        assert!(ids(&nearest("lizardite")).contains(&"antigorite"));
+        assert!(ids(&nearest("antigorite")).contains(&"lizardite"));
+    }
+
+    #[test]
+    fn shows_reads_the_base() {
+        let talc = engine().base().entry("talc").expect("talc");
+        assert_eq!(
+            typical(talc, Property::Hardness),
+            Shows::Hardness(talc.hardness)
+        );
+        assert!(occasional(talc, Property::Hardness).is_empty());
+        assert_eq!(typical(talc, Property::Magnetic).to_string(), "false");
+        assert_eq!(typical(talc, Property::Magnetic).labels(), "no");
+    }
+
+    #[test]
+    fn ranges_and_lists_read_as_people_write_them() {
+        let r = |min, max| Range { min, max };
+        assert_eq!(Shows::Hardness(r(2.0, 3.0)).to_string(), "2–3");
+        assert_eq!(Shows::Hardness(r(2.5, 2.5)).to_string(), "2.5");
+        assert_eq!(Shows::SpecificGravity(r(2.7, 3.3)).to_string(), "2.70–3.30");
+        let v = |value| Shown {
+            value,
+            label: value,
+        };
+        assert_eq!(
+            Shows::Values(vec![v("a"), v("b"), v("c")]).to_string(),
+            "a, b or c"
+        );
+        assert_eq!(Shows::Values(vec![v("a")]).to_string(), "a");
+    }
+}
