@@ -410,22 +410,6 @@ mod tests {
     }
 
     #[test]
-    fn dump() {
-        for entry in &engine().base().entries {
-            let list = nearest(&entry.id);
-            println!("{}:", entry.id);
-            for l in list {
-                let seps: Vec<String> = l
-                    .separators
-                    .iter()
-                    .map(|s| format!("{} {:.3} [{} | {}]", s.property, s.overlap, s.this, s.other))
-                    .collect();
-                println!("   {:14} {:.4}  {}", l.id, l.similarity, seps.join("; "));
-            }
-        }
-    }
-
-    #[test]
     fn results_are_deterministic() {
         for entry in &engine().base().entries {
             assert_eq!(nearest(&entry.id), nearest(&entry.id));

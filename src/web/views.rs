@@ -263,10 +263,32 @@ pub enum Inputs {
     },
 }
 
+/// The question a page asks, as a sentence.
+pub fn question_sentence(p: Property) -> &'static str {
+    match p {
+        Property::Cleavage => "How does it split?",
+        Property::Tenacity => "What does a thin flake do when you bend it?",
+        Property::Hardness => "How hard is it?",
+        Property::Colour => "What colour is it?",
+        Property::Luster => "How does a fresh face shine?",
+        Property::Habit => "How does it sit in the rock?",
+        Property::Feel => "How does it feel between the fingers?",
+        Property::WetBehaviour => "What does a pinch do with a drop of water?",
+        Property::Streak => "What colour is its streak?",
+        Property::Diaphaneity => "Does light pass through a thin flake?",
+        Property::SpecificGravity => "How heavy is it for its size?",
+        Property::Magnetic => "Does a hand magnet pull it?",
+        Property::AcidReaction => "Does it fizz in dilute acid?",
+        Property::Setting => "What rock did it come from?",
+    }
+}
+
 /// One question, ready to render.
 pub struct QuestionView {
     /// Contract property name (also the fieldset id).
     pub property: &'static str,
+    /// The question as a sentence (the page heading).
+    pub sentence: &'static str,
     /// Legend.
     pub label: &'static str,
     /// How to do the test.
@@ -488,6 +510,7 @@ pub fn question(
     };
     QuestionView {
         property: p.as_str(),
+        sentence: question_sentence(p),
         label: p.label(),
         how: p.how(),
         inputs,

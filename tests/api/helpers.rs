@@ -116,3 +116,69 @@ impl TestApp {
         .await
     }
 }
+
+/// A browser session against the app: keeps the anti-forgery cookie.
+pub struct Session<'a> {
+    pub app: &'a TestApp,
+    pub cookie: Option<String>,
+}
+
+impl<'a> Session<'a> {
+    pub fn new(app: &'a TestApp) -> Self {
+        Session { app, cookie: None }
+    }
+
+    fn remember(&mut self, r: &Reply) {
+        if let Some(v) = r.headers.get(header::SET_COOKIE).and_then(|v| v.to_str().ok())
+            && let Some(kv) = v.split(';').next()
+        {
+            self.cookie = Some(kv.to_string());
+        }
+    }
+
+    pub async fn get(&mut self, uri: &str) -> Reply {
+        let mut b = Request::get(uri);
+        if let Some(c) = &self.cookie {
+            b = b.header(header::COOKIE, c);
+        }
+        let r = self.app.send(b.body(Body::empty()).expect("request")).await;
+        self.remember(&r);
+        r
+    }
+
+    /// The anti-forgery token this session's pages carry.
+    pub fn token(&self) -> String {
+        self.cookie
+            .as_deref()
+            .and_then(|c| c.split_once('='))
+            .map(|(_, v)| v.to_string())
+            .expect("a page has set the cookie")
+    }
+
+    /// POSTs a form body (already urlencoded) with the session's cookie.
+    pub async fn post_form(&mut self, uri: &str, body: &str) -> Reply {
+        let mut b = Request::post(uri).header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
+        if let Some(c) = &self.cookie {
+            b = b.header(header::COOKIE, c);
+        }
+        let r = self.app.send(b.body(Body::from(body.to_string())).expect("request")).await;
+        self.remember(&r);
+        r
+    }
+
+    /// POSTs a form with the right token added.
+    pub async fn submit(&mut self, uri: &str, fields: &str) -> Reply {
+        let body = format!("_csrf={}&{fields}", self.token());
+        self.post_form(uri, &body).await
+    }
+}
+
+impl Reply {
+    pub fn location(&self) -> String {
+        self.headers
+            .get(header::LOCATION)
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or_else(|| panic!("no Location on {}", self.status))
+            .to_string()
+    }
+}
