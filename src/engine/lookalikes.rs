@@ -95,10 +95,11 @@ impl Shows {
         matches!(self, Shows::Values(v) if v.is_empty())
     }
 
-    /// Text for people: labels joined with "or", ranges as `2.5–3`.
+    /// Text for people: labels joined with semicolons (a label may hold
+    /// "or" or a comma itself), ranges as `2.5–3`.
     pub fn labels(&self) -> String {
         match self {
-            Shows::Values(v) => join_or(v.iter().map(|s| s.label)),
+            Shows::Values(v) => v.iter().map(|s| s.label).collect::<Vec<_>>().join("; "),
             _ => self.to_string(),
         }
     }
@@ -498,5 +499,6 @@ mod tests {
             "a, b or c"
         );
         assert_eq!(Shows::Values(vec![v("a")]).to_string(), "a");
+        assert_eq!(Shows::Values(vec![v("a"), v("b")]).labels(), "a; b");
     }
 }

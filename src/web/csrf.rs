@@ -82,6 +82,7 @@ pub async fn layer(mut req: Request, next: Next) -> Response {
     req.extensions_mut().insert(CsrfToken(token.clone()));
     let mut resp = next.run(req).await;
     if existing.is_none()
+        && !is_api
         && let Ok(v) = HeaderValue::from_str(&format!(
             "{COOKIE}={token}; Path=/; HttpOnly; SameSite=Strict"
         ))
