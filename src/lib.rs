@@ -16,5 +16,6 @@ pub mod base;
 pub mod chem;
 pub mod cli;
 pub mod engine;
+pub mod samples;
 pub mod store;
 pub mod web;

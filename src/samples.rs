@@ -1,0 +1,356 @@
+//! Sample records of the log: the contract's fields, validated.
+//!
+//! Pure domain code (no I/O, no axum, no sqlx): the web layer parses a
+//! request into [`SampleInput`], [`SampleInput::validate`] checks every
+//! field and names the first one that is wrong, and the store saves the
+//! resulting [`ValidSample`] with its identification snapshot.
+
+use serde::{Deserialize, Serialize};
+
+use crate::base::vocab::Setting;
+use crate::engine::{FieldError, Observations};
+
+/// Longest free-text field (station, collector, lithology), characters.
+pub const MAX_SHORT_TEXT: usize = 200;
+/// Longest notes, characters.
+pub const MAX_NOTES: usize = 10_000;
+/// Longest sample code, characters.
+pub const MAX_SAMPLE_CODE: usize = 64;
+/// Largest coordinate uncertainty accepted, metres (a third of the Earth's
+/// circumference is already no location at all).
+pub const MAX_UNCERTAINTY_M: f64 = 20_000_000.0;
+
+/// A sample record as a client sends it (create or whole-record update).
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SampleInput {
+    /// Project code; `default` when omitted.
+    #[serde(default)]
+    pub project: Option<String>,
+    /// The crew's own label, unique within the project. Required.
+    #[serde(default)]
+    pub sample_code: Option<String>,
+    /// ISO 8601 calendar date, `YYYY-MM-DD`.
+    #[serde(default)]
+    pub collected_on: Option<String>,
+    /// Who collected it.
+    #[serde(default)]
+    pub collector: Option<String>,
+    /// Station or outcrop label.
+    #[serde(default)]
+    pub station: Option<String>,
+    /// WGS 84 latitude, decimal degrees.
+    #[serde(default)]
+    pub latitude: Option<f64>,
+    /// WGS 84 longitude, decimal degrees.
+    #[serde(default)]
+    pub longitude: Option<f64>,
+    /// Coordinate uncertainty, metres.
+    #[serde(default)]
+    pub coordinate_uncertainty_m: Option<f64>,
+    /// Geological setting.
+    #[serde(default)]
+    pub setting: Option<Setting>,
+    /// Rock description, free text.
+    #[serde(default)]
+    pub lithology: Option<String>,
+    /// The identify request object.
+    #[serde(default)]
+    pub observations: Option<Observations>,
+    /// The entry the geologist names it as, or null for "not identified".
+    #[serde(default)]
+    pub field_id: Option<String>,
+    /// Notes.
+    #[serde(default)]
+    pub notes: Option<String>,
+    /// On update: the revision the client started from.
+    #[serde(default)]
+    pub revision: Option<i64>,
+    /// Read-only fields a client may echo back from a GET; ignored if they
+    /// match the stored record, so a fetched record can be sent back whole.
+    #[serde(default, skip_serializing)]
+    pub id: Option<String>,
+    /// Read-only, ignored.
+    #[serde(default, skip_serializing)]
+    pub created_at: Option<String>,
+    /// Read-only, ignored.
+    #[serde(default, skip_serializing)]
+    pub updated_at: Option<String>,
+    /// Read-only, ignored.
+    #[serde(default, skip_serializing)]
+    pub identification: Option<serde::de::IgnoredAny>,
+    /// Read-only, ignored.
+    #[serde(default, skip_serializing)]
+    pub base_version: Option<String>,
+    /// Read-only, ignored.
+    #[serde(default, skip_serializing)]
+    pub deleted: Option<bool>,
+}
+
+/// A validated sample, ready to store.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ValidSample {
+    /// Project code.
+    pub project: String,
+    /// Sample code.
+    pub sample_code: String,
+    /// ISO 8601 date.
+    pub collected_on: Option<String>,
+    /// Collector.
+    pub collector: Option<String>,
+    /// Station.
+    pub station: Option<String>,
+    /// Latitude.
+    pub latitude: Option<f64>,
+    /// Longitude.
+    pub longitude: Option<f64>,
+    /// Uncertainty, metres.
+    pub coordinate_uncertainty_m: Option<f64>,
+    /// Setting.
+    pub setting: Option<Setting>,
+    /// Lithology.
+    pub lithology: Option<String>,
+    /// Observations (empty when none).
+    pub observations: Observations,
+    /// Field identification.
+    pub field_id: Option<String>,
+    /// Notes.
+    pub notes: Option<String>,
+}
+
+/// A project code: 1 to 16 of `a-z 0-9 _ -`, starting with a letter or digit.
+pub fn valid_project_code(code: &str) -> bool {
+    let mut chars = code.chars();
+    matches!(chars.next(), Some(c) if c.is_ascii_lowercase() || c.is_ascii_digit())
+        && code.len() <= 16
+        && chars.all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '_' || c == '-')
+}
+
+fn is_leap(y: i32) -> bool {
+    (y % 4 == 0 && y % 100 != 0) || y % 400 == 0
+}
+
+/// Checks an ISO 8601 calendar date in the extended format `YYYY-MM-DD`.
+pub fn valid_iso_date(s: &str) -> bool {
+    let b = s.as_bytes();
+    if b.len() != 10 || b[4] != b'-' || b[7] != b'-' {
+        return false;
+    }
+    let digits = |r: std::ops::Range<usize>| -> Option<i32> {
+        s.get(r).filter(|t| t.bytes().all(|c| c.is_ascii_digit())).and_then(|t| t.parse().ok())
+    };
+    let (Some(y), Some(m), Some(d)) = (digits(0..4), digits(5..7), digits(8..10)) else {
+        return false;
+    };
+    let days = match m {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
+        4 | 6 | 9 | 11 => 30,
+        2 if is_leap(y) => 29,
+        2 => 28,
+        _ => return false,
+    };
+    (1000..=9999).contains(&y) && (1..=days).contains(&d)
+}
+
+/// Degrees, minutes and seconds for people: `46°30′44.3″ N`.
+pub fn dms(value: f64, positive: char, negative: char) -> String {
+    let hemi = if value < 0.0 { negative } else { positive };
+    let total = (value.abs() * 3600.0 * 10.0).round() / 10.0;
+    let deg = (total / 3600.0).floor();
+    let min = ((total - deg * 3600.0) / 60.0).floor();
+    let sec = total - deg * 3600.0 - min * 60.0;
+    format!("{deg:.0}°{min:02.0}′{sec:04.1}″ {hemi}")
+}
+
+fn text(field: &str, v: &Option<String>, max: usize) -> Result<Option<String>, FieldError> {
+    let Some(s) = v else { return Ok(None) };
+    let t = s.trim();
+    if t.is_empty() {
+        return Ok(None);
+    }
+    if t.chars().count() > max {
+        return Err(FieldError::new(field, format!("at most {max} characters")));
+    }
+    if t.chars().any(|c| c.is_control() && c != '\n' && c != '\r' && c != '\t') {
+        return Err(FieldError::new(field, "control characters are not allowed"));
+    }
+    Ok(Some(t.to_string()))
+}
+
+impl SampleInput {
+    /// Validates every field; `known_entry` says whether an id names a base
+    /// entry. The first problem found is returned.
+    pub fn validate(&self, known_entry: impl Fn(&str) -> bool) -> Result<ValidSample, FieldError> {
+        let project = match self.project.as_deref().map(str::trim) {
+            None | Some("") => "default".to_string(),
+            Some(p) if valid_project_code(p) => p.to_string(),
+            Some(p) => {
+                return Err(FieldError::new(
+                    "project",
+                    format!("\"{p}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"),
+                ));
+            }
+        };
+        let sample_code = match self.sample_code.as_deref().map(str::trim) {
+            None | Some("") => {
+                return Err(FieldError::new("sample_code", "a sample code is required (the crew's own label)"));
+            }
+            Some(c) if c.chars().count() > MAX_SAMPLE_CODE => {
+                return Err(FieldError::new(
+                    "sample_code",
+                    format!("at most {MAX_SAMPLE_CODE} characters"),
+                ));
+            }
+            Some(c) if c.chars().any(char::is_control) => {
+                return Err(FieldError::new("sample_code", "control characters are not allowed"));
+            }
+            Some(c) => c.to_string(),
+        };
+        let collected_on = match self.collected_on.as_deref().map(str::trim) {
+            None | Some("") => None,
+            Some(d) if valid_iso_date(d) => Some(d.to_string()),
+            Some(d) => {
+                return Err(FieldError::new(
+                    "collected_on",
+                    format!("\"{d}\" is not a calendar date; write it as YYYY-MM-DD (ISO 8601), e.g. 2026-07-14"),
+                ));
+            }
+        };
+        let coord = |field: &str, v: Option<f64>, lim: f64, what: &str| -> Result<Option<f64>, FieldError> {
+            match v {
+                None => Ok(None),
+                Some(x) if x.is_finite() && x.abs() <= lim => Ok(Some(x)),
+                Some(x) => Err(FieldError::new(
+                    field,
+                    format!("{what} must be decimal degrees from −{lim} to {lim} (WGS 84), got {x}"),
+                )),
+            }
+        };
+        let latitude = coord("latitude", self.latitude, 90.0, "latitude")?;
+        let longitude = coord("longitude", self.longitude, 180.0, "longitude")?;
+        if latitude.is_some() != longitude.is_some() {
+            let missing = if latitude.is_none() { "latitude" } else { "longitude" };
+            return Err(FieldError::new(missing, "give latitude and longitude together, or neither"));
+        }
+        let coordinate_uncertainty_m = match self.coordinate_uncertainty_m {
+            None => None,
+            Some(u) if u.is_finite() && u > 0.0 && u <= MAX_UNCERTAINTY_M => Some(u),
+            Some(u) => {
+                return Err(FieldError::new(
+                    "coordinate_uncertainty_m",
+                    format!("the uncertainty must be a distance in metres greater than 0, got {u}"),
+                ));
+            }
+        };
+        let observations = self.observations.clone().unwrap_or_default();
+        if let Err(e) = observations.validate() {
+            return Err(FieldError::new(format!("observations.{}", e.field).trim_end_matches('.'), e.message));
+        }
+        let field_id = match self.field_id.as_deref().map(str::trim) {
+            None | Some("") => None,
+            Some(id) if known_entry(id) => Some(id.to_string()),
+            Some(id) => {
+                return Err(FieldError::new(
+                    "field_id",
+                    format!("\"{id}\" is not an entry of the property base (GET /api/v1/minerals lists them); use null for \"not identified\""),
+                ));
+            }
+        };
+        Ok(ValidSample {
+            project,
+            sample_code,
+            collected_on,
+            collector: text("collector", &self.collector, MAX_SHORT_TEXT)?,
+            station: text("station", &self.station, MAX_SHORT_TEXT)?,
+            latitude,
+            longitude,
+            coordinate_uncertainty_m,
+            setting: self.setting,
+            lithology: text("lithology", &self.lithology, MAX_SHORT_TEXT)?,
+            observations,
+            field_id,
+            notes: text("notes", &self.notes, MAX_NOTES)?,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn known(id: &str) -> bool {
+        id == "muscovite"
+    }
+
+    #[test]
+    fn only_the_sample_code_is_required() {
+        let s = SampleInput { sample_code: Some(" BV-001 ".into()), ..Default::default() }
+            .validate(known)
+            .expect("valid");
+        assert_eq!(s.project, "default");
+        assert_eq!(s.sample_code, "BV-001");
+        let e = SampleInput::default().validate(known).expect_err("no code");
+        assert_eq!(e.field, "sample_code");
+    }
+
+    #[test]
+    fn iso_dates_are_checked_for_real_calendar_days() {
+        for ok in ["2026-07-14", "2024-02-29", "2000-02-29", "1999-12-31"] {
+            assert!(valid_iso_date(ok), "{ok}");
+        }
+        for bad in ["2026-02-29", "1900-02-29", "2026-13-01", "2026-04-31", "26-07-14", "2026/07/14", "14.07.2026", "2026-7-14", "2026-07-14T10:00"] {
+            assert!(!valid_iso_date(bad), "{bad}");
+        }
+    }
+
+    #[test]
+    fn coordinates_stay_within_wgs84_and_come_in_pairs() {
+        let base = SampleInput { sample_code: Some("x".into()), ..Default::default() };
+        let cases = [
+            (Some(91.0), Some(0.0), "latitude"),
+            (Some(-90.5), Some(0.0), "latitude"),
+            (Some(10.0), Some(180.5), "longitude"),
+            (Some(10.0), None, "longitude"),
+            (None, Some(10.0), "latitude"),
+        ];
+        for (lat, lon, field) in cases {
+            let e = SampleInput { latitude: lat, longitude: lon, ..base.clone() }.validate(known).expect_err("bad");
+            assert_eq!(e.field, field, "{lat:?} {lon:?}");
+        }
+        let ok = SampleInput { latitude: Some(-90.0), longitude: Some(180.0), ..base }.validate(known);
+        assert!(ok.is_ok());
+    }
+
+    #[test]
+    fn field_ids_must_name_a_base_entry() {
+        let base = SampleInput { sample_code: Some("x".into()), ..Default::default() };
+        assert!(SampleInput { field_id: Some("muscovite".into()), ..base.clone() }.validate(known).is_ok());
+        let e = SampleInput { field_id: Some("mica".into()), ..base }.validate(known).expect_err("bad");
+        assert_eq!(e.field, "field_id");
+    }
+
+    #[test]
+    fn bad_observations_are_named_under_observations() {
+        let obs: Observations = serde_json::from_str(r#"{"hardness": {"min": 0.2}}"#).expect("json");
+        let e = SampleInput { sample_code: Some("x".into()), observations: Some(obs), ..Default::default() }
+            .validate(known)
+            .expect_err("bad");
+        assert_eq!(e.field, "observations.hardness.min");
+    }
+
+    #[test]
+    fn degrees_minutes_seconds() {
+        // 46.5123° = 46° 30′ 44.28″ (arithmetic).
+        assert_eq!(dms(46.5123, 'N', 'S'), "46°30′44.3″ N");
+        assert_eq!(dms(-7.25, 'E', 'W'), "7°15′00.0″ W");
+    }
+
+    #[test]
+    fn project_codes_are_short_and_plain() {
+        assert!(valid_project_code("default"));
+        assert!(valid_project_code("bv-26"));
+        assert!(!valid_project_code("BV"));
+        assert!(!valid_project_code("-x"));
+        assert!(!valid_project_code("a-very-long-project-code"));
+    }
+}
