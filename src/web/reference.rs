@@ -275,13 +275,20 @@ pub struct LookalikeView {
 
 impl LookalikeView {
     fn new(base: &Base, this: &Entry, l: &Lookalike) -> LookalikeView {
-        let lab = [
-            this.lab.trim(),
-            base.entry(&l.id).map_or("", |o| o.lab.trim()),
-        ]
-        .into_iter()
-        .find(|s| !s.is_empty())
-        .unwrap_or("")
+        // The laboratory line that names the other mineral, else this
+        // entry's own, else the lookalike's.
+        let mine = this.lab.trim();
+        let theirs = base.entry(&l.id).map_or("", |o| o.lab.trim());
+        let names = |text: &str, name: &str| text.to_lowercase().contains(&name.to_lowercase());
+        let lab = if names(mine, &l.name) {
+            mine
+        } else if names(theirs, &this.name) {
+            theirs
+        } else if !mine.is_empty() {
+            mine
+        } else {
+            theirs
+        }
         .to_string();
         LookalikeView {
             id: l.id.clone(),
