@@ -7,6 +7,7 @@
 //! functions so that a shared PostgreSQL server remains possible.
 
 pub mod drafts;
+pub mod samples;
 
 use std::path::Path;
 use std::str::FromStr;

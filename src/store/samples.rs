@@ -1,0 +1,756 @@
+//! The sample log in SQLite: create, read, update with optimistic
+//! concurrency, tombstone and restore, history, filtered keyset listing.
+//!
+//! Every change runs in one transaction that updates the live row and
+//! appends the whole new state to `sample_revisions`, so nothing is ever
+//! overwritten without a trace.
+
+use serde::{Deserialize, Serialize};
+use sqlx::{QueryBuilder, Sqlite, SqlitePool};
+
+use super::{Context, StoreError};
+use crate::base::vocab::Setting;
+use crate::engine::{Identification, Observations};
+use crate::samples::ValidSample;
+
+/// A stored sample record: the contract's fields plus what the service adds.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SampleRecord {
+    /// UUID, never changes.
+    pub id: String,
+    /// Project code.
+    pub project: String,
+    /// The crew's label, unique within the project.
+    pub sample_code: String,
+    /// ISO 8601 date.
+    pub collected_on: Option<String>,
+    /// Collector.
+    pub collector: Option<String>,
+    /// Station.
+    pub station: Option<String>,
+    /// WGS 84 latitude.
+    pub latitude: Option<f64>,
+    /// WGS 84 longitude.
+    pub longitude: Option<f64>,
+    /// Coordinate uncertainty, metres.
+    pub coordinate_uncertainty_m: Option<f64>,
+    /// Setting.
+    pub setting: Option<Setting>,
+    /// Lithology.
+    pub lithology: Option<String>,
+    /// Observations (the identify request object).
+    pub observations: Observations,
+    /// Field identification (an entry id) or null.
+    pub field_id: Option<String>,
+    /// Notes.
+    pub notes: Option<String>,
+    /// When created (ISO 8601 UTC).
+    pub created_at: String,
+    /// When last changed.
+    pub updated_at: String,
+    /// 1 on creation, +1 on every change.
+    pub revision: i64,
+    /// The identify response computed when the record was saved.
+    pub identification: Identification,
+    /// The property-base version of that identification.
+    pub base_version: String,
+    /// Whether the record is a tombstone.
+    pub deleted: bool,
+    /// When it was deleted.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub deleted_at: Option<String>,
+}
+
+#[derive(sqlx::FromRow)]
+struct Row {
+    seq: i64,
+    id: String,
+    project: String,
+    sample_code: String,
+    revision: i64,
+    created_at: String,
+    updated_at: String,
+    deleted_at: Option<String>,
+    collected_on: Option<String>,
+    collector: Option<String>,
+    station: Option<String>,
+    latitude: Option<f64>,
+    longitude: Option<f64>,
+    coordinate_uncertainty_m: Option<f64>,
+    setting: Option<String>,
+    lithology: Option<String>,
+    observations: String,
+    field_id: Option<String>,
+    notes: Option<String>,
+    identification: String,
+    base_version: String,
+}
+
+const COLUMNS: &str = "seq, id, project, sample_code, revision, created_at, updated_at, deleted_at, \
+    collected_on, collector, station, latitude, longitude, coordinate_uncertainty_m, setting, lithology, \
+    observations, field_id, notes, identification, base_version";
+
+const NOW: &str = "strftime('%Y-%m-%dT%H:%M:%fZ', 'now')";
+
+fn corrupt(id: &str, what: &'static str, e: impl std::fmt::Display) -> StoreError {
+    StoreError::Corrupt { what, id: id.to_string(), detail: e.to_string() }
+}
+
+impl Row {
+    fn into_record(self) -> Result<(i64, SampleRecord), StoreError> {
+        let setting = match self.setting.as_deref() {
+            None => None,
+            Some(s) => Some(
+                <Setting as crate::base::vocab::Vocab>::parse(s)
+                    .ok_or_else(|| corrupt(&self.id, "sample setting", s))?,
+            ),
+        };
+        let observations = serde_json::from_str(&self.observations)
+            .map_err(|e| corrupt(&self.id, "sample observations", e))?;
+        let identification = serde_json::from_str(&self.identification)
+            .map_err(|e| corrupt(&self.id, "sample identification", e))?;
+        Ok((
+            self.seq,
+            SampleRecord {
+                project: self.project,
+                sample_code: self.sample_code,
+                collected_on: self.collected_on,
+                collector: self.collector,
+                station: self.station,
+                latitude: self.latitude,
+                longitude: self.longitude,
+                coordinate_uncertainty_m: self.coordinate_uncertainty_m,
+                setting,
+                lithology: self.lithology,
+                observations,
+                field_id: self.field_id,
+                notes: self.notes,
+                created_at: self.created_at,
+                updated_at: self.updated_at,
+                revision: self.revision,
+                identification,
+                base_version: self.base_version,
+                deleted: self.deleted_at.is_some(),
+                deleted_at: self.deleted_at,
+                id: self.id,
+            },
+        ))
+    }
+}
+
+/// Why a write was refused.
+#[derive(Debug, thiserror::Error)]
+pub enum WriteError {
+    /// The code is taken in that project.
+    #[error("sample code {code} is already used in project {project}")]
+    CodeTaken {
+        /// Project.
+        project: String,
+        /// Code.
+        code: String,
+    },
+    /// No such project.
+    #[error("there is no project {0}")]
+    UnknownProject(String),
+    /// No such sample.
+    #[error("there is no sample {0}")]
+    NotFound(String),
+    /// The sample is a tombstone.
+    #[error("sample {0} is deleted")]
+    Deleted(String),
+    /// The client's revision is not the current one.
+    #[error("revision {expected} is not the current revision {}", current.revision)]
+    Stale {
+        /// What the client started from.
+        expected: i64,
+        /// The record as it is now.
+        current: Box<SampleRecord>,
+    },
+    /// The store failed.
+    #[error(transparent)]
+    Store(#[from] StoreError),
+}
+
+fn classify(e: sqlx::Error, v: &ValidSample) -> WriteError {
+    if let Some(db) = e.as_database_error() {
+        match db.kind() {
+            sqlx::error::ErrorKind::UniqueViolation => {
+                return WriteError::CodeTaken { project: v.project.clone(), code: v.sample_code.clone() };
+            }
+            sqlx::error::ErrorKind::ForeignKeyViolation => {
+                return WriteError::UnknownProject(v.project.clone());
+            }
+            _ => {}
+        }
+    }
+    WriteError::Store(StoreError::Sqlx { context: "writing a sample", source: e })
+}
+
+/// What a revision records.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Action {
+    /// First state.
+    Create,
+    /// A whole-record update.
+    Update,
+    /// Tombstoned.
+    Delete,
+    /// Brought back.
+    Restore,
+    /// Created by a CSV import.
+    Import,
+}
+
+impl Action {
+    fn as_str(self) -> &'static str {
+        match self {
+            Action::Create => "create",
+            Action::Update => "update",
+            Action::Delete => "delete",
+            Action::Restore => "restore",
+            Action::Import => "import",
+        }
+    }
+}
+
+/// One earlier (or the current) state of a record.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Revision {
+    /// Revision number.
+    pub revision: i64,
+    /// When.
+    pub recorded_at: String,
+    /// Who, as given.
+    pub author: Option<String>,
+    /// What kind of change.
+    pub action: Action,
+    /// The whole record after the change.
+    pub record: SampleRecord,
+}
+
+async fn append_revision(
+    tx: &mut sqlx::Transaction<'_, Sqlite>,
+    rec: &SampleRecord,
+    author: Option<&str>,
+    action: Action,
+) -> Result<(), StoreError> {
+    let json = serde_json::to_string(rec).map_err(|e| corrupt(&rec.id, "sample record", e))?;
+    sqlx::query(
+        "INSERT INTO sample_revisions (sample_id, revision, recorded_at, author, action, record)
+         VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+    )
+    .bind(&rec.id)
+    .bind(rec.revision)
+    .bind(&rec.updated_at)
+    .bind(author)
+    .bind(action.as_str())
+    .bind(json)
+    .execute(&mut **tx)
+    .await
+    .context("appending a revision")?;
+    Ok(())
+}
+
+async fn fetch_in(tx: &mut sqlx::Transaction<'_, Sqlite>, id: &str) -> Result<Option<SampleRecord>, StoreError> {
+    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(format!("SELECT {COLUMNS} FROM samples WHERE id = ?1")))
+        .bind(id)
+        .fetch_optional(&mut **tx)
+        .await
+        .context("reading a sample")?;
+    row.map(|r| r.into_record().map(|(_, rec)| rec)).transpose()
+}
+
+/// Values a new or updated record is written with.
+pub struct NewState<'a> {
+    /// The validated fields.
+    pub sample: &'a ValidSample,
+    /// The identification snapshot.
+    pub identification: &'a Identification,
+    /// Who makes the change.
+    pub author: Option<&'a str>,
+}
+
+fn ident_json(id: &Identification) -> Result<String, StoreError> {
+    serde_json::to_string(id).map_err(|e| corrupt("", "identification", e))
+}
+
+/// Creates a record (revision 1). `keep` carries an id and timestamps to
+/// preserve (a CSV round trip); otherwise they are new.
+#[tracing::instrument(skip(pool, s, keep), fields(sample.code = %s.sample.sample_code))]
+pub async fn create(pool: &SqlitePool, s: NewState<'_>, keep: Option<&Kept>) -> Result<SampleRecord, WriteError> {
+    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let rec = insert_in(&mut tx, &s, keep, Action::Create).await?;
+    tx.commit().await.context("committing a new sample")?;
+    tracing::info!(sample.id = %rec.id, "sample created");
+    Ok(rec)
+}
+
+/// An id and timestamps carried over from an export.
+#[derive(Clone, Debug, Default)]
+pub struct Kept {
+    /// UUID.
+    pub id: Option<String>,
+    /// Created.
+    pub created_at: Option<String>,
+    /// Updated.
+    pub updated_at: Option<String>,
+}
+
+/// Inserts one record and its first revision inside `tx`.
+pub async fn insert_in(
+    tx: &mut sqlx::Transaction<'_, Sqlite>,
+    s: &NewState<'_>,
+    keep: Option<&Kept>,
+    action: Action,
+) -> Result<SampleRecord, WriteError> {
+    let v = s.sample;
+    let id = keep.and_then(|k| k.id.clone()).unwrap_or_else(|| uuid::Uuid::new_v4().to_string());
+    let obs = serde_json::to_string(&v.observations).map_err(|e| WriteError::Store(corrupt(&id, "observations", e)))?;
+    let ident = ident_json(s.identification)?;
+    let created = keep.and_then(|k| k.created_at.clone());
+    let updated = keep.and_then(|k| k.updated_at.clone()).or_else(|| created.clone());
+    let sql = format!(
+        "INSERT INTO samples (id, project, sample_code, revision, created_at, updated_at, collected_on, collector,
+            station, latitude, longitude, coordinate_uncertainty_m, setting, lithology, observations, field_id,
+            notes, identification, base_version)
+         VALUES (?1, ?2, ?3, 1, COALESCE(?4, {NOW}), COALESCE(?5, ?4, {NOW}), ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14,
+            ?15, ?16, ?17, ?18)
+         RETURNING {COLUMNS}"
+    );
+    let row: Row = sqlx::query_as(sqlx::AssertSqlSafe(sql))
+        .bind(&id)
+        .bind(&v.project)
+        .bind(&v.sample_code)
+        .bind(created)
+        .bind(updated)
+        .bind(&v.collected_on)
+        .bind(&v.collector)
+        .bind(&v.station)
+        .bind(v.latitude)
+        .bind(v.longitude)
+        .bind(v.coordinate_uncertainty_m)
+        .bind(v.setting.map(|x| x.to_string()))
+        .bind(&v.lithology)
+        .bind(obs)
+        .bind(&v.field_id)
+        .bind(&v.notes)
+        .bind(ident)
+        .bind(&s.identification.base_version)
+        .fetch_one(&mut **tx)
+        .await
+        .map_err(|e| classify(e, v))?;
+    let (_, rec) = row.into_record()?;
+    append_revision(tx, &rec, s.author, action).await?;
+    Ok(rec)
+}
+
+/// The record with this id, tombstoned or not.
+#[tracing::instrument(skip(pool))]
+pub async fn get(pool: &SqlitePool, id: &str) -> Result<Option<SampleRecord>, StoreError> {
+    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(format!("SELECT {COLUMNS} FROM samples WHERE id = ?1")))
+        .bind(id)
+        .fetch_optional(pool)
+        .await
+        .context("reading a sample")?;
+    row.map(|r| r.into_record().map(|(_, rec)| rec)).transpose()
+}
+
+/// Replaces a live record with a new state when `expected_revision` is
+/// the current one (optimistic concurrency); appends the revision.
+#[tracing::instrument(skip(pool, s))]
+pub async fn update(
+    pool: &SqlitePool,
+    id: &str,
+    expected_revision: i64,
+    s: NewState<'_>,
+) -> Result<SampleRecord, WriteError> {
+    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let current = fetch_in(&mut tx, id).await?.ok_or_else(|| WriteError::NotFound(id.to_string()))?;
+    if current.deleted {
+        return Err(WriteError::Deleted(id.to_string()));
+    }
+    if current.revision != expected_revision {
+        return Err(WriteError::Stale { expected: expected_revision, current: Box::new(current) });
+    }
+    let v = s.sample;
+    let obs = serde_json::to_string(&v.observations).map_err(|e| WriteError::Store(corrupt(id, "observations", e)))?;
+    let sql = format!(
+        "UPDATE samples SET project = ?2, sample_code = ?3, revision = revision + 1, updated_at = {NOW},
+            collected_on = ?4, collector = ?5, station = ?6, latitude = ?7, longitude = ?8,
+            coordinate_uncertainty_m = ?9, setting = ?10, lithology = ?11, observations = ?12, field_id = ?13,
+            notes = ?14, identification = ?15, base_version = ?16
+         WHERE id = ?1 AND revision = ?17
+         RETURNING {COLUMNS}"
+    );
+    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(sql))
+        .bind(id)
+        .bind(&v.project)
+        .bind(&v.sample_code)
+        .bind(&v.collected_on)
+        .bind(&v.collector)
+        .bind(&v.station)
+        .bind(v.latitude)
+        .bind(v.longitude)
+        .bind(v.coordinate_uncertainty_m)
+        .bind(v.setting.map(|x| x.to_string()))
+        .bind(&v.lithology)
+        .bind(obs)
+        .bind(&v.field_id)
+        .bind(&v.notes)
+        .bind(ident_json(s.identification)?)
+        .bind(&s.identification.base_version)
+        .bind(expected_revision)
+        .fetch_optional(&mut *tx)
+        .await
+        .map_err(|e| classify(e, v))?;
+    let Some(row) = row else {
+        // Another writer got in between the read and the write.
+        let now = fetch_in(&mut tx, id).await?.ok_or_else(|| WriteError::NotFound(id.to_string()))?;
+        return Err(WriteError::Stale { expected: expected_revision, current: Box::new(now) });
+    };
+    let (_, rec) = row.into_record()?;
+    append_revision(&mut tx, &rec, s.author, Action::Update).await?;
+    tx.commit().await.context("committing an update")?;
+    tracing::info!(sample.id = %id, sample.revision = rec.revision, "sample updated");
+    Ok(rec)
+}
+
+async fn set_tombstone(pool: &SqlitePool, id: &str, author: Option<&str>, delete: bool) -> Result<SampleRecord, WriteError> {
+    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let current = fetch_in(&mut tx, id).await?.ok_or_else(|| WriteError::NotFound(id.to_string()))?;
+    if current.deleted == delete {
+        // Already in the asked-for state: nothing to change, nothing to append.
+        return Ok(current);
+    }
+    let sql = if delete {
+        format!("UPDATE samples SET deleted_at = {NOW}, updated_at = {NOW}, revision = revision + 1 WHERE id = ?1 RETURNING {COLUMNS}")
+    } else {
+        format!("UPDATE samples SET deleted_at = NULL, updated_at = {NOW}, revision = revision + 1 WHERE id = ?1 RETURNING {COLUMNS}")
+    };
+    let row: Row = sqlx::query_as(sqlx::AssertSqlSafe(sql))
+        .bind(id)
+        .fetch_one(&mut *tx)
+        .await
+        .context("setting a tombstone")?;
+    let (_, rec) = row.into_record()?;
+    append_revision(&mut tx, &rec, author, if delete { Action::Delete } else { Action::Restore }).await?;
+    tx.commit().await.context("committing a tombstone")?;
+    Ok(rec)
+}
+
+/// Tombstones a record (restorable; nothing is erased).
+#[tracing::instrument(skip(pool))]
+pub async fn delete(pool: &SqlitePool, id: &str, author: Option<&str>) -> Result<SampleRecord, WriteError> {
+    set_tombstone(pool, id, author, true).await
+}
+
+/// Brings a tombstoned record back.
+#[tracing::instrument(skip(pool))]
+pub async fn restore(pool: &SqlitePool, id: &str, author: Option<&str>) -> Result<SampleRecord, WriteError> {
+    set_tombstone(pool, id, author, false).await
+}
+
+#[derive(sqlx::FromRow)]
+struct RevisionRow {
+    revision: i64,
+    recorded_at: String,
+    author: Option<String>,
+    action: String,
+    record: String,
+}
+
+/// Every state of a record, oldest first (the current one last).
+#[tracing::instrument(skip(pool))]
+pub async fn revisions(pool: &SqlitePool, id: &str) -> Result<Vec<Revision>, StoreError> {
+    let rows: Vec<RevisionRow> = sqlx::query_as(
+        "SELECT revision, recorded_at, author, action, record FROM sample_revisions
+         WHERE sample_id = ?1 ORDER BY revision",
+    )
+    .bind(id)
+    .fetch_all(pool)
+    .await
+    .context("reading revisions")?;
+    rows.into_iter()
+        .map(|r| {
+            let action = match r.action.as_str() {
+                "create" => Action::Create,
+                "update" => Action::Update,
+                "delete" => Action::Delete,
+                "restore" => Action::Restore,
+                "import" => Action::Import,
+                other => return Err(corrupt(id, "revision action", other)),
+            };
+            Ok(Revision {
+                revision: r.revision,
+                recorded_at: r.recorded_at,
+                author: r.author,
+                action,
+                record: serde_json::from_str(&r.record).map_err(|e| corrupt(id, "revision record", e))?,
+            })
+        })
+        .collect()
+}
+
+/// Filters of the history page, the list API and the exports.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct Filter {
+    /// Project code.
+    pub project: Option<String>,
+    /// Field identification (entry id); `none` for not identified.
+    pub field_id: Option<String>,
+    /// Collector, exact.
+    pub collector: Option<String>,
+    /// Setting.
+    pub setting: Option<Setting>,
+    /// Collected on or after (ISO date).
+    pub from: Option<String>,
+    /// Collected on or before (ISO date).
+    pub to: Option<String>,
+    /// Free text over station, lithology and notes.
+    pub q: Option<String>,
+}
+
+/// A page of records, newest first.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Page {
+    /// The records.
+    pub samples: Vec<SampleRecord>,
+    /// Cursor of the following page, if any.
+    pub next_cursor: Option<String>,
+}
+
+/// Turns free text into an FTS5 query that cannot be a syntax error: every
+/// word becomes a quoted prefix term, all of them required.
+pub fn fts_query(q: &str) -> Option<String> {
+    let terms: Vec<String> = q
+        .split_whitespace()
+        .map(|w| w.chars().filter(|c| c.is_alphanumeric() || *c == '-' || *c == '_' || *c == '.').collect::<String>())
+        .filter(|w| !w.is_empty())
+        .map(|w| format!("\"{}\"*", w.replace('"', "\"\"")))
+        .collect();
+    (!terms.is_empty()).then(|| terms.join(" "))
+}
+
+fn push_filters(qb: &mut QueryBuilder<Sqlite>, f: &Filter) {
+    qb.push(" WHERE deleted_at IS NULL");
+    if let Some(p) = &f.project {
+        qb.push(" AND project = ").push_bind(p.clone());
+    }
+    match f.field_id.as_deref() {
+        Some("none") => {
+            qb.push(" AND field_id IS NULL");
+        }
+        Some(id) => {
+            qb.push(" AND field_id = ").push_bind(id.to_string());
+        }
+        None => {}
+    }
+    if let Some(c) = &f.collector {
+        qb.push(" AND collector = ").push_bind(c.clone());
+    }
+    if let Some(s) = f.setting {
+        qb.push(" AND setting = ").push_bind(s.to_string());
+    }
+    if let Some(d) = &f.from {
+        qb.push(" AND collected_on >= ").push_bind(d.clone());
+    }
+    if let Some(d) = &f.to {
+        qb.push(" AND collected_on <= ").push_bind(d.clone());
+    }
+    if let Some(q) = f.q.as_deref().and_then(fts_query) {
+        qb.push(" AND seq IN (SELECT rowid FROM samples_fts WHERE samples_fts MATCH ").push_bind(q).push(")");
+    }
+}
+
+/// Records matching `f`, newest first, `limit` at a time; `cursor` is the
+/// `next_cursor` of the page before (keyset pagination: no OFFSET, so
+/// every page costs the same however deep).
+#[tracing::instrument(skip(pool))]
+pub async fn list(pool: &SqlitePool, f: &Filter, limit: i64, cursor: Option<i64>) -> Result<Page, StoreError> {
+    let mut qb: QueryBuilder<Sqlite> = QueryBuilder::new(format!("SELECT {COLUMNS} FROM samples"));
+    push_filters(&mut qb, f);
+    if let Some(c) = cursor {
+        qb.push(" AND seq < ").push_bind(c);
+    }
+    qb.push(" ORDER BY seq DESC LIMIT ").push_bind(limit + 1);
+    let rows: Vec<Row> = qb.build_query_as().fetch_all(pool).await.context("listing samples")?;
+    let mut out = Vec::with_capacity(rows.len());
+    let mut last_seq = None;
+    for r in rows.into_iter().take(limit as usize + 1) {
+        let (seq, rec) = r.into_record()?;
+        out.push((seq, rec));
+    }
+    let more = out.len() as i64 > limit;
+    if more {
+        out.truncate(limit as usize);
+        last_seq = out.last().map(|(s, _)| *s);
+    }
+    Ok(Page {
+        samples: out.into_iter().map(|(_, r)| r).collect(),
+        next_cursor: last_seq.map(|s| s.to_string()),
+    })
+}
+
+/// A project.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, sqlx::FromRow)]
+pub struct Project {
+    /// Short code.
+    pub code: String,
+    /// Name.
+    pub name: String,
+    /// Sample-code pattern.
+    pub code_scheme: String,
+    /// Created.
+    pub created_at: String,
+}
+
+/// Every project, by code.
+#[tracing::instrument(skip(pool))]
+pub async fn projects(pool: &SqlitePool) -> Result<Vec<Project>, StoreError> {
+    sqlx::query_as("SELECT code, name, code_scheme, created_at FROM projects ORDER BY code")
+        .fetch_all(pool)
+        .await
+        .context("listing projects")
+}
+
+/// One project.
+#[tracing::instrument(skip(pool))]
+pub async fn project(pool: &SqlitePool, code: &str) -> Result<Option<Project>, StoreError> {
+    sqlx::query_as("SELECT code, name, code_scheme, created_at FROM projects WHERE code = ?1")
+        .bind(code)
+        .fetch_optional(pool)
+        .await
+        .context("reading a project")
+}
+
+/// Creates a project; false when the code is taken.
+#[tracing::instrument(skip(pool))]
+pub async fn create_project(pool: &SqlitePool, code: &str, name: &str, scheme: &str) -> Result<bool, StoreError> {
+    let r = sqlx::query(sqlx::AssertSqlSafe(format!(
+        "INSERT INTO projects (code, name, code_scheme, created_at) VALUES (?1, ?2, ?3, {NOW})
+         ON CONFLICT (code) DO NOTHING"
+    )))
+    .bind(code)
+    .bind(name)
+    .bind(scheme)
+    .execute(pool)
+    .await
+    .context("creating a project")?;
+    Ok(r.rows_affected() == 1)
+}
+
+/// Codes in a project that start with `prefix` (to find the next free
+/// sequence number of a code scheme).
+#[tracing::instrument(skip(pool))]
+pub async fn codes_with_prefix(pool: &SqlitePool, project: &str, prefix: &str) -> Result<Vec<String>, StoreError> {
+    let pattern = format!("{}%", prefix.replace('\\', "\\\\").replace('%', "\\%").replace('_', "\\_"));
+    sqlx::query_scalar("SELECT sample_code FROM samples WHERE project = ?1 AND sample_code LIKE ?2 ESCAPE '\\'")
+        .bind(project)
+        .bind(pattern)
+        .fetch_all(pool)
+        .await
+        .context("reading sample codes")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::Engine;
+    use crate::samples::SampleInput;
+
+    async fn pool() -> (SqlitePool, tempfile::TempDir) {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let pool = crate::store::open(&dir.path().join("s.sqlite")).await.expect("open");
+        (pool, dir)
+    }
+
+    fn valid(code: &str, notes: &str) -> ValidSample {
+        SampleInput { sample_code: Some(code.into()), notes: Some(notes.into()), ..Default::default() }
+            .validate(|_| true)
+            .expect("valid")
+    }
+
+    async fn add(pool: &SqlitePool, code: &str, notes: &str) -> SampleRecord {
+        let v = valid(code, notes);
+        let ident = Engine::builtin().identify(&v.observations);
+        create(pool, NewState { sample: &v, identification: &ident, author: Some("test") }, None).await.expect("create")
+    }
+
+    #[tokio::test]
+    async fn a_taken_code_is_refused_and_the_first_record_is_kept() {
+        let (pool, _d) = pool().await;
+        let first = add(&pool, "BV-1", "first").await;
+        let v = valid("BV-1", "second");
+        let ident = Engine::builtin().identify(&v.observations);
+        let err = create(&pool, NewState { sample: &v, identification: &ident, author: None }, None).await;
+        assert!(matches!(err, Err(WriteError::CodeTaken { .. })), "{err:?}");
+        assert_eq!(get(&pool, &first.id).await.expect("get").expect("kept").notes.as_deref(), Some("first"));
+    }
+
+    #[tokio::test]
+    async fn updates_append_revisions_and_stale_ones_are_refused() {
+        let (pool, _d) = pool().await;
+        let rec = add(&pool, "BV-2", "typo in the notse").await;
+        let v = valid("BV-2", "typo in the notes");
+        let ident = Engine::builtin().identify(&v.observations);
+        let r2 = update(&pool, &rec.id, 1, NewState { sample: &v, identification: &ident, author: Some("a") })
+            .await
+            .expect("update");
+        assert_eq!(r2.revision, 2);
+        let stale = update(&pool, &rec.id, 1, NewState { sample: &v, identification: &ident, author: Some("b") }).await;
+        match stale {
+            Err(WriteError::Stale { current, .. }) => assert_eq!(current.revision, 2),
+            other => panic!("expected stale, got {other:?}"),
+        }
+        let revs = revisions(&pool, &rec.id).await.expect("revisions");
+        assert_eq!(revs.len(), 2);
+        assert_eq!(revs[0].record.notes.as_deref(), Some("typo in the notse"));
+        assert_eq!(revs[1].author.as_deref(), Some("a"));
+    }
+
+    #[tokio::test]
+    async fn delete_is_a_restorable_tombstone() {
+        let (pool, _d) = pool().await;
+        let rec = add(&pool, "BV-3", "x").await;
+        let del = delete(&pool, &rec.id, None).await.expect("delete");
+        assert!(del.deleted);
+        assert_eq!(del.revision, 2);
+        let page = list(&pool, &Filter::default(), 10, None).await.expect("list");
+        assert!(page.samples.is_empty());
+        let back = restore(&pool, &rec.id, None).await.expect("restore");
+        assert!(!back.deleted);
+        assert_eq!(back.revision, 3);
+        assert_eq!(revisions(&pool, &rec.id).await.expect("revs").len(), 3);
+    }
+
+    #[tokio::test]
+    async fn keyset_pages_cover_every_record_once_newest_first() {
+        let (pool, _d) = pool().await;
+        for i in 0..25 {
+            add(&pool, &format!("K-{i:03}"), if i % 2 == 0 { "biotite schist" } else { "chlorite phyllite" }).await;
+        }
+        let mut seen = Vec::new();
+        let mut cursor = None;
+        loop {
+            let page = list(&pool, &Filter::default(), 10, cursor).await.expect("page");
+            seen.extend(page.samples.iter().map(|s| s.sample_code.clone()));
+            match page.next_cursor {
+                Some(c) => cursor = Some(c.parse().expect("cursor")),
+                None => break,
+            }
+        }
+        assert_eq!(seen.len(), 25);
+        assert_eq!(seen[0], "K-024");
+        assert_eq!(seen[24], "K-000");
+        let f = Filter { q: Some("chlor".into()), ..Default::default() };
+        assert_eq!(list(&pool, &f, 100, None).await.expect("fts").samples.len(), 12);
+    }
+
+    #[test]
+    fn free_text_never_becomes_fts_syntax() {
+        assert_eq!(fts_query("biotite  schist").as_deref(), Some("\"biotite\"* \"schist\"*"));
+        assert_eq!(fts_query("\"OR\" NEAR( *").as_deref(), Some("\"OR\"* \"NEAR\"*"));
+        assert_eq!(fts_query("  ").as_deref(), None);
+    }
+}
