@@ -63,6 +63,10 @@ pub struct SampleInput {
     /// Notes.
     #[serde(default)]
     pub notes: Option<String>,
+    /// Who makes this change, for the record's history (free text; basal
+    /// has no accounts).
+    #[serde(default)]
+    pub edited_by: Option<String>,
     /// On update: the revision the client started from.
     #[serde(default)]
     pub revision: Option<i64>,
@@ -137,7 +141,9 @@ pub fn valid_iso_date(s: &str) -> bool {
         return false;
     }
     let digits = |r: std::ops::Range<usize>| -> Option<i32> {
-        s.get(r).filter(|t| t.bytes().all(|c| c.is_ascii_digit())).and_then(|t| t.parse().ok())
+        s.get(r)
+            .filter(|t| t.bytes().all(|c| c.is_ascii_digit()))
+            .and_then(|t| t.parse().ok())
     };
     let (Some(y), Some(m), Some(d)) = (digits(0..4), digits(5..7), digits(8..10)) else {
         return false;
@@ -171,7 +177,9 @@ fn text(field: &str, v: &Option<String>, max: usize) -> Result<Option<String>, F
     if t.chars().count() > max {
         return Err(FieldError::new(field, format!("at most {max} characters")));
     }
-    if t.chars().any(|c| c.is_control() && c != '\n' && c != '\r' && c != '\t') {
+    if t.chars()
+        .any(|c| c.is_control() && c != '\n' && c != '\r' && c != '\t')
+    {
         return Err(FieldError::new(field, "control characters are not allowed"));
     }
     Ok(Some(t.to_string()))
@@ -187,13 +195,18 @@ impl SampleInput {
             Some(p) => {
                 return Err(FieldError::new(
                     "project",
-                    format!("\"{p}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"),
+                    format!(
+                        "\"{p}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"
+                    ),
                 ));
             }
         };
         let sample_code = match self.sample_code.as_deref().map(str::trim) {
             None | Some("") => {
-                return Err(FieldError::new("sample_code", "a sample code is required (the crew's own label)"));
+                return Err(FieldError::new(
+                    "sample_code",
+                    "a sample code is required (the crew's own label)",
+                ));
             }
             Some(c) if c.chars().count() > MAX_SAMPLE_CODE => {
                 return Err(FieldError::new(
@@ -202,7 +215,10 @@ impl SampleInput {
                 ));
             }
             Some(c) if c.chars().any(char::is_control) => {
-                return Err(FieldError::new("sample_code", "control characters are not allowed"));
+                return Err(FieldError::new(
+                    "sample_code",
+                    "control characters are not allowed",
+                ));
             }
             Some(c) => c.to_string(),
         };
@@ -212,25 +228,40 @@ impl SampleInput {
             Some(d) => {
                 return Err(FieldError::new(
                     "collected_on",
-                    format!("\"{d}\" is not a calendar date; write it as YYYY-MM-DD (ISO 8601), e.g. 2026-07-14"),
+                    format!(
+                        "\"{d}\" is not a calendar date; write it as YYYY-MM-DD (ISO 8601), e.g. 2026-07-14"
+                    ),
                 ));
             }
         };
-        let coord = |field: &str, v: Option<f64>, lim: f64, what: &str| -> Result<Option<f64>, FieldError> {
+        let coord = |field: &str,
+                     v: Option<f64>,
+                     lim: f64,
+                     what: &str|
+         -> Result<Option<f64>, FieldError> {
             match v {
                 None => Ok(None),
                 Some(x) if x.is_finite() && x.abs() <= lim => Ok(Some(x)),
                 Some(x) => Err(FieldError::new(
                     field,
-                    format!("{what} must be decimal degrees from −{lim} to {lim} (WGS 84), got {x}"),
+                    format!(
+                        "{what} must be decimal degrees from −{lim} to {lim} (WGS 84), got {x}"
+                    ),
                 )),
             }
         };
         let latitude = coord("latitude", self.latitude, 90.0, "latitude")?;
         let longitude = coord("longitude", self.longitude, 180.0, "longitude")?;
         if latitude.is_some() != longitude.is_some() {
-            let missing = if latitude.is_none() { "latitude" } else { "longitude" };
-            return Err(FieldError::new(missing, "give latitude and longitude together, or neither"));
+            let missing = if latitude.is_none() {
+                "latitude"
+            } else {
+                "longitude"
+            };
+            return Err(FieldError::new(
+                missing,
+                "give latitude and longitude together, or neither",
+            ));
         }
         let coordinate_uncertainty_m = match self.coordinate_uncertainty_m {
             None => None,
@@ -244,7 +275,10 @@ impl SampleInput {
         };
         let observations = self.observations.clone().unwrap_or_default();
         if let Err(e) = observations.validate() {
-            return Err(FieldError::new(format!("observations.{}", e.field).trim_end_matches('.'), e.message));
+            return Err(FieldError::new(
+                format!("observations.{}", e.field).trim_end_matches('.'),
+                e.message,
+            ));
         }
         let field_id = match self.field_id.as_deref().map(str::trim) {
             None | Some("") => None,
@@ -252,7 +286,9 @@ impl SampleInput {
             Some(id) => {
                 return Err(FieldError::new(
                     "field_id",
-                    format!("\"{id}\" is not an entry of the property base (GET /api/v1/minerals lists them); use null for \"not identified\""),
+                    format!(
+                        "\"{id}\" is not an entry of the property base (GET /api/v1/minerals lists them); use null for \"not identified\""
+                    ),
                 ));
             }
         };
@@ -284,9 +320,12 @@ mod tests {
 
     #[test]
     fn only_the_sample_code_is_required() {
-        let s = SampleInput { sample_code: Some(" BV-001 ".into()), ..Default::default() }
-            .validate(known)
-            .expect("valid");
+        let s = SampleInput {
+            sample_code: Some(" BV-001 ".into()),
+            ..Default::default()
+        }
+        .validate(known)
+        .expect("valid");
         assert_eq!(s.project, "default");
         assert_eq!(s.sample_code, "BV-001");
         let e = SampleInput::default().validate(known).expect_err("no code");
@@ -298,14 +337,27 @@ mod tests {
         for ok in ["2026-07-14", "2024-02-29", "2000-02-29", "1999-12-31"] {
             assert!(valid_iso_date(ok), "{ok}");
         }
-        for bad in ["2026-02-29", "1900-02-29", "2026-13-01", "2026-04-31", "26-07-14", "2026/07/14", "14.07.2026", "2026-7-14", "2026-07-14T10:00"] {
+        for bad in [
+            "2026-02-29",
+            "1900-02-29",
+            "2026-13-01",
+            "2026-04-31",
+            "26-07-14",
+            "2026/07/14",
+            "14.07.2026",
+            "2026-7-14",
+            "2026-07-14T10:00",
+        ] {
             assert!(!valid_iso_date(bad), "{bad}");
         }
     }
 
     #[test]
     fn coordinates_stay_within_wgs84_and_come_in_pairs() {
-        let base = SampleInput { sample_code: Some("x".into()), ..Default::default() };
+        let base = SampleInput {
+            sample_code: Some("x".into()),
+            ..Default::default()
+        };
         let cases = [
             (Some(91.0), Some(0.0), "latitude"),
             (Some(-90.5), Some(0.0), "latitude"),
@@ -314,27 +366,58 @@ mod tests {
             (None, Some(10.0), "latitude"),
         ];
         for (lat, lon, field) in cases {
-            let e = SampleInput { latitude: lat, longitude: lon, ..base.clone() }.validate(known).expect_err("bad");
+            let e = SampleInput {
+                latitude: lat,
+                longitude: lon,
+                ..base.clone()
+            }
+            .validate(known)
+            .expect_err("bad");
             assert_eq!(e.field, field, "{lat:?} {lon:?}");
         }
-        let ok = SampleInput { latitude: Some(-90.0), longitude: Some(180.0), ..base }.validate(known);
+        let ok = SampleInput {
+            latitude: Some(-90.0),
+            longitude: Some(180.0),
+            ..base
+        }
+        .validate(known);
         assert!(ok.is_ok());
     }
 
     #[test]
     fn field_ids_must_name_a_base_entry() {
-        let base = SampleInput { sample_code: Some("x".into()), ..Default::default() };
-        assert!(SampleInput { field_id: Some("muscovite".into()), ..base.clone() }.validate(known).is_ok());
-        let e = SampleInput { field_id: Some("mica".into()), ..base }.validate(known).expect_err("bad");
+        let base = SampleInput {
+            sample_code: Some("x".into()),
+            ..Default::default()
+        };
+        assert!(
+            SampleInput {
+                field_id: Some("muscovite".into()),
+                ..base.clone()
+            }
+            .validate(known)
+            .is_ok()
+        );
+        let e = SampleInput {
+            field_id: Some("mica".into()),
+            ..base
+        }
+        .validate(known)
+        .expect_err("bad");
         assert_eq!(e.field, "field_id");
     }
 
     #[test]
     fn bad_observations_are_named_under_observations() {
-        let obs: Observations = serde_json::from_str(r#"{"hardness": {"min": 0.2}}"#).expect("json");
-        let e = SampleInput { sample_code: Some("x".into()), observations: Some(obs), ..Default::default() }
-            .validate(known)
-            .expect_err("bad");
+        let obs: Observations =
+            serde_json::from_str(r#"{"hardness": {"min": 0.2}}"#).expect("json");
+        let e = SampleInput {
+            sample_code: Some("x".into()),
+            observations: Some(obs),
+            ..Default::default()
+        }
+        .validate(known)
+        .expect_err("bad");
         assert_eq!(e.field, "observations.hardness.min");
     }
 

@@ -10,6 +10,7 @@ pub mod flow;
 pub mod forms;
 pub mod pages;
 pub mod reference;
+pub mod samples_api;
 pub mod views;
 
 use std::future::Future;
@@ -52,6 +53,7 @@ pub fn app(state: AppState) -> Router {
         .merge(pages::router())
         .merge(reference::router())
         .merge(flow::router())
+        .merge(samples_api::router())
         .fallback(pages::not_found)
         .with_state(state)
         .layer(axum::middleware::from_fn(csrf::layer))
@@ -63,9 +65,12 @@ pub fn app(state: AppState) -> Router {
             header::X_CONTENT_TYPE_OPTIONS,
             HeaderValue::from_static("nosniff"),
         ))
+        // `same-origin`, not `no-referrer`: with `no-referrer` browsers send
+        // `Origin: null` on our own form posts, which the forgery check
+        // must refuse.
         .layer(SetResponseHeaderLayer::if_not_present(
             header::REFERRER_POLICY,
-            HeaderValue::from_static("no-referrer"),
+            HeaderValue::from_static("same-origin"),
         ))
         .layer(SetResponseHeaderLayer::if_not_present(
             HeaderName::from_static("x-frame-options"),

@@ -93,7 +93,11 @@ const COLUMNS: &str = "seq, id, project, sample_code, revision, created_at, upda
 const NOW: &str = "strftime('%Y-%m-%dT%H:%M:%fZ', 'now')";
 
 fn corrupt(id: &str, what: &'static str, e: impl std::fmt::Display) -> StoreError {
-    StoreError::Corrupt { what, id: id.to_string(), detail: e.to_string() }
+    StoreError::Corrupt {
+        what,
+        id: id.to_string(),
+        detail: e.to_string(),
+    }
 }
 
 impl Row {
@@ -175,7 +179,10 @@ fn classify(e: sqlx::Error, v: &ValidSample) -> WriteError {
     if let Some(db) = e.as_database_error() {
         match db.kind() {
             sqlx::error::ErrorKind::UniqueViolation => {
-                return WriteError::CodeTaken { project: v.project.clone(), code: v.sample_code.clone() };
+                return WriteError::CodeTaken {
+                    project: v.project.clone(),
+                    code: v.sample_code.clone(),
+                };
             }
             sqlx::error::ErrorKind::ForeignKeyViolation => {
                 return WriteError::UnknownProject(v.project.clone());
@@ -183,7 +190,10 @@ fn classify(e: sqlx::Error, v: &ValidSample) -> WriteError {
             _ => {}
         }
     }
-    WriteError::Store(StoreError::Sqlx { context: "writing a sample", source: e })
+    WriteError::Store(StoreError::Sqlx {
+        context: "writing a sample",
+        source: e,
+    })
 }
 
 /// What a revision records.
@@ -252,12 +262,17 @@ async fn append_revision(
     Ok(())
 }
 
-async fn fetch_in(tx: &mut sqlx::Transaction<'_, Sqlite>, id: &str) -> Result<Option<SampleRecord>, StoreError> {
-    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(format!("SELECT {COLUMNS} FROM samples WHERE id = ?1")))
-        .bind(id)
-        .fetch_optional(&mut **tx)
-        .await
-        .context("reading a sample")?;
+async fn fetch_in(
+    tx: &mut sqlx::Transaction<'_, Sqlite>,
+    id: &str,
+) -> Result<Option<SampleRecord>, StoreError> {
+    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT {COLUMNS} FROM samples WHERE id = ?1"
+    )))
+    .bind(id)
+    .fetch_optional(&mut **tx)
+    .await
+    .context("reading a sample")?;
     row.map(|r| r.into_record().map(|(_, rec)| rec)).transpose()
 }
 
@@ -278,7 +293,11 @@ fn ident_json(id: &Identification) -> Result<String, StoreError> {
 /// Creates a record (revision 1). `keep` carries an id and timestamps to
 /// preserve (a CSV round trip); otherwise they are new.
 #[tracing::instrument(skip(pool, s, keep), fields(sample.code = %s.sample.sample_code))]
-pub async fn create(pool: &SqlitePool, s: NewState<'_>, keep: Option<&Kept>) -> Result<SampleRecord, WriteError> {
+pub async fn create(
+    pool: &SqlitePool,
+    s: NewState<'_>,
+    keep: Option<&Kept>,
+) -> Result<SampleRecord, WriteError> {
     let mut tx = pool.begin().await.context("starting a transaction")?;
     let rec = insert_in(&mut tx, &s, keep, Action::Create).await?;
     tx.commit().await.context("committing a new sample")?;
@@ -305,11 +324,16 @@ pub async fn insert_in(
     action: Action,
 ) -> Result<SampleRecord, WriteError> {
     let v = s.sample;
-    let id = keep.and_then(|k| k.id.clone()).unwrap_or_else(|| uuid::Uuid::new_v4().to_string());
-    let obs = serde_json::to_string(&v.observations).map_err(|e| WriteError::Store(corrupt(&id, "observations", e)))?;
+    let id = keep
+        .and_then(|k| k.id.clone())
+        .unwrap_or_else(|| uuid::Uuid::new_v4().to_string());
+    let obs = serde_json::to_string(&v.observations)
+        .map_err(|e| WriteError::Store(corrupt(&id, "observations", e)))?;
     let ident = ident_json(s.identification)?;
     let created = keep.and_then(|k| k.created_at.clone());
-    let updated = keep.and_then(|k| k.updated_at.clone()).or_else(|| created.clone());
+    let updated = keep
+        .and_then(|k| k.updated_at.clone())
+        .or_else(|| created.clone());
     let sql = format!(
         "INSERT INTO samples (id, project, sample_code, revision, created_at, updated_at, collected_on, collector,
             station, latitude, longitude, coordinate_uncertainty_m, setting, lithology, observations, field_id,
@@ -348,11 +372,13 @@ pub async fn insert_in(
 /// The record with this id, tombstoned or not.
 #[tracing::instrument(skip(pool))]
 pub async fn get(pool: &SqlitePool, id: &str) -> Result<Option<SampleRecord>, StoreError> {
-    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(format!("SELECT {COLUMNS} FROM samples WHERE id = ?1")))
-        .bind(id)
-        .fetch_optional(pool)
-        .await
-        .context("reading a sample")?;
+    let row: Option<Row> = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT {COLUMNS} FROM samples WHERE id = ?1"
+    )))
+    .bind(id)
+    .fetch_optional(pool)
+    .await
+    .context("reading a sample")?;
     row.map(|r| r.into_record().map(|(_, rec)| rec)).transpose()
 }
 
@@ -366,15 +392,21 @@ pub async fn update(
     s: NewState<'_>,
 ) -> Result<SampleRecord, WriteError> {
     let mut tx = pool.begin().await.context("starting a transaction")?;
-    let current = fetch_in(&mut tx, id).await?.ok_or_else(|| WriteError::NotFound(id.to_string()))?;
+    let current = fetch_in(&mut tx, id)
+        .await?
+        .ok_or_else(|| WriteError::NotFound(id.to_string()))?;
     if current.deleted {
         return Err(WriteError::Deleted(id.to_string()));
     }
     if current.revision != expected_revision {
-        return Err(WriteError::Stale { expected: expected_revision, current: Box::new(current) });
+        return Err(WriteError::Stale {
+            expected: expected_revision,
+            current: Box::new(current),
+        });
     }
     let v = s.sample;
-    let obs = serde_json::to_string(&v.observations).map_err(|e| WriteError::Store(corrupt(id, "observations", e)))?;
+    let obs = serde_json::to_string(&v.observations)
+        .map_err(|e| WriteError::Store(corrupt(id, "observations", e)))?;
     let sql = format!(
         "UPDATE samples SET project = ?2, sample_code = ?3, revision = revision + 1, updated_at = {NOW},
             collected_on = ?4, collector = ?5, station = ?6, latitude = ?7, longitude = ?8,
@@ -406,8 +438,13 @@ pub async fn update(
         .map_err(|e| classify(e, v))?;
     let Some(row) = row else {
         // Another writer got in between the read and the write.
-        let now = fetch_in(&mut tx, id).await?.ok_or_else(|| WriteError::NotFound(id.to_string()))?;
-        return Err(WriteError::Stale { expected: expected_revision, current: Box::new(now) });
+        let now = fetch_in(&mut tx, id)
+            .await?
+            .ok_or_else(|| WriteError::NotFound(id.to_string()))?;
+        return Err(WriteError::Stale {
+            expected: expected_revision,
+            current: Box::new(now),
+        });
     };
     let (_, rec) = row.into_record()?;
     append_revision(&mut tx, &rec, s.author, Action::Update).await?;
@@ -416,17 +453,28 @@ pub async fn update(
     Ok(rec)
 }
 
-async fn set_tombstone(pool: &SqlitePool, id: &str, author: Option<&str>, delete: bool) -> Result<SampleRecord, WriteError> {
+async fn set_tombstone(
+    pool: &SqlitePool,
+    id: &str,
+    author: Option<&str>,
+    delete: bool,
+) -> Result<SampleRecord, WriteError> {
     let mut tx = pool.begin().await.context("starting a transaction")?;
-    let current = fetch_in(&mut tx, id).await?.ok_or_else(|| WriteError::NotFound(id.to_string()))?;
+    let current = fetch_in(&mut tx, id)
+        .await?
+        .ok_or_else(|| WriteError::NotFound(id.to_string()))?;
     if current.deleted == delete {
         // Already in the asked-for state: nothing to change, nothing to append.
         return Ok(current);
     }
     let sql = if delete {
-        format!("UPDATE samples SET deleted_at = {NOW}, updated_at = {NOW}, revision = revision + 1 WHERE id = ?1 RETURNING {COLUMNS}")
+        format!(
+            "UPDATE samples SET deleted_at = {NOW}, updated_at = {NOW}, revision = revision + 1 WHERE id = ?1 RETURNING {COLUMNS}"
+        )
     } else {
-        format!("UPDATE samples SET deleted_at = NULL, updated_at = {NOW}, revision = revision + 1 WHERE id = ?1 RETURNING {COLUMNS}")
+        format!(
+            "UPDATE samples SET deleted_at = NULL, updated_at = {NOW}, revision = revision + 1 WHERE id = ?1 RETURNING {COLUMNS}"
+        )
     };
     let row: Row = sqlx::query_as(sqlx::AssertSqlSafe(sql))
         .bind(id)
@@ -434,20 +482,38 @@ async fn set_tombstone(pool: &SqlitePool, id: &str, author: Option<&str>, delete
         .await
         .context("setting a tombstone")?;
     let (_, rec) = row.into_record()?;
-    append_revision(&mut tx, &rec, author, if delete { Action::Delete } else { Action::Restore }).await?;
+    append_revision(
+        &mut tx,
+        &rec,
+        author,
+        if delete {
+            Action::Delete
+        } else {
+            Action::Restore
+        },
+    )
+    .await?;
     tx.commit().await.context("committing a tombstone")?;
     Ok(rec)
 }
 
 /// Tombstones a record (restorable; nothing is erased).
 #[tracing::instrument(skip(pool))]
-pub async fn delete(pool: &SqlitePool, id: &str, author: Option<&str>) -> Result<SampleRecord, WriteError> {
+pub async fn delete(
+    pool: &SqlitePool,
+    id: &str,
+    author: Option<&str>,
+) -> Result<SampleRecord, WriteError> {
     set_tombstone(pool, id, author, true).await
 }
 
 /// Brings a tombstoned record back.
 #[tracing::instrument(skip(pool))]
-pub async fn restore(pool: &SqlitePool, id: &str, author: Option<&str>) -> Result<SampleRecord, WriteError> {
+pub async fn restore(
+    pool: &SqlitePool,
+    id: &str,
+    author: Option<&str>,
+) -> Result<SampleRecord, WriteError> {
     set_tombstone(pool, id, author, false).await
 }
 
@@ -486,7 +552,8 @@ pub async fn revisions(pool: &SqlitePool, id: &str) -> Result<Vec<Revision>, Sto
                 recorded_at: r.recorded_at,
                 author: r.author,
                 action,
-                record: serde_json::from_str(&r.record).map_err(|e| corrupt(id, "revision record", e))?,
+                record: serde_json::from_str(&r.record)
+                    .map_err(|e| corrupt(id, "revision record", e))?,
             })
         })
         .collect()
@@ -525,7 +592,11 @@ pub struct Page {
 pub fn fts_query(q: &str) -> Option<String> {
     let terms: Vec<String> = q
         .split_whitespace()
-        .map(|w| w.chars().filter(|c| c.is_alphanumeric() || *c == '-' || *c == '_' || *c == '.').collect::<String>())
+        .map(|w| {
+            w.chars()
+                .filter(|c| c.is_alphanumeric() || *c == '-' || *c == '_' || *c == '.')
+                .collect::<String>()
+        })
         .filter(|w| !w.is_empty())
         .map(|w| format!("\"{}\"*", w.replace('"', "\"\"")))
         .collect();
@@ -559,7 +630,9 @@ fn push_filters(qb: &mut QueryBuilder<Sqlite>, f: &Filter) {
         qb.push(" AND collected_on <= ").push_bind(d.clone());
     }
     if let Some(q) = f.q.as_deref().and_then(fts_query) {
-        qb.push(" AND seq IN (SELECT rowid FROM samples_fts WHERE samples_fts MATCH ").push_bind(q).push(")");
+        qb.push(" AND seq IN (SELECT rowid FROM samples_fts WHERE samples_fts MATCH ")
+            .push_bind(q)
+            .push(")");
     }
 }
 
@@ -567,14 +640,23 @@ fn push_filters(qb: &mut QueryBuilder<Sqlite>, f: &Filter) {
 /// `next_cursor` of the page before (keyset pagination: no OFFSET, so
 /// every page costs the same however deep).
 #[tracing::instrument(skip(pool))]
-pub async fn list(pool: &SqlitePool, f: &Filter, limit: i64, cursor: Option<i64>) -> Result<Page, StoreError> {
+pub async fn list(
+    pool: &SqlitePool,
+    f: &Filter,
+    limit: i64,
+    cursor: Option<i64>,
+) -> Result<Page, StoreError> {
     let mut qb: QueryBuilder<Sqlite> = QueryBuilder::new(format!("SELECT {COLUMNS} FROM samples"));
     push_filters(&mut qb, f);
     if let Some(c) = cursor {
         qb.push(" AND seq < ").push_bind(c);
     }
     qb.push(" ORDER BY seq DESC LIMIT ").push_bind(limit + 1);
-    let rows: Vec<Row> = qb.build_query_as().fetch_all(pool).await.context("listing samples")?;
+    let rows: Vec<Row> = qb
+        .build_query_as()
+        .fetch_all(pool)
+        .await
+        .context("listing samples")?;
     let mut out = Vec::with_capacity(rows.len());
     let mut last_seq = None;
     for r in rows.into_iter().take(limit as usize + 1) {
@@ -626,7 +708,12 @@ pub async fn project(pool: &SqlitePool, code: &str) -> Result<Option<Project>, S
 
 /// Creates a project; false when the code is taken.
 #[tracing::instrument(skip(pool))]
-pub async fn create_project(pool: &SqlitePool, code: &str, name: &str, scheme: &str) -> Result<bool, StoreError> {
+pub async fn create_project(
+    pool: &SqlitePool,
+    code: &str,
+    name: &str,
+    scheme: &str,
+) -> Result<bool, StoreError> {
     let r = sqlx::query(sqlx::AssertSqlSafe(format!(
         "INSERT INTO projects (code, name, code_scheme, created_at) VALUES (?1, ?2, ?3, {NOW})
          ON CONFLICT (code) DO NOTHING"
@@ -643,14 +730,26 @@ pub async fn create_project(pool: &SqlitePool, code: &str, name: &str, scheme: &
 /// Codes in a project that start with `prefix` (to find the next free
 /// sequence number of a code scheme).
 #[tracing::instrument(skip(pool))]
-pub async fn codes_with_prefix(pool: &SqlitePool, project: &str, prefix: &str) -> Result<Vec<String>, StoreError> {
-    let pattern = format!("{}%", prefix.replace('\\', "\\\\").replace('%', "\\%").replace('_', "\\_"));
-    sqlx::query_scalar("SELECT sample_code FROM samples WHERE project = ?1 AND sample_code LIKE ?2 ESCAPE '\\'")
-        .bind(project)
-        .bind(pattern)
-        .fetch_all(pool)
-        .await
-        .context("reading sample codes")
+pub async fn codes_with_prefix(
+    pool: &SqlitePool,
+    project: &str,
+    prefix: &str,
+) -> Result<Vec<String>, StoreError> {
+    let pattern = format!(
+        "{}%",
+        prefix
+            .replace('\\', "\\\\")
+            .replace('%', "\\%")
+            .replace('_', "\\_")
+    );
+    sqlx::query_scalar(
+        "SELECT sample_code FROM samples WHERE project = ?1 AND sample_code LIKE ?2 ESCAPE '\\'",
+    )
+    .bind(project)
+    .bind(pattern)
+    .fetch_all(pool)
+    .await
+    .context("reading sample codes")
 }
 
 #[cfg(test)]
@@ -661,20 +760,36 @@ mod tests {
 
     async fn pool() -> (SqlitePool, tempfile::TempDir) {
         let dir = tempfile::tempdir().expect("tempdir");
-        let pool = crate::store::open(&dir.path().join("s.sqlite")).await.expect("open");
+        let pool = crate::store::open(&dir.path().join("s.sqlite"))
+            .await
+            .expect("open");
         (pool, dir)
     }
 
     fn valid(code: &str, notes: &str) -> ValidSample {
-        SampleInput { sample_code: Some(code.into()), notes: Some(notes.into()), ..Default::default() }
-            .validate(|_| true)
-            .expect("valid")
+        SampleInput {
+            sample_code: Some(code.into()),
+            notes: Some(notes.into()),
+            ..Default::default()
+        }
+        .validate(|_| true)
+        .expect("valid")
     }
 
     async fn add(pool: &SqlitePool, code: &str, notes: &str) -> SampleRecord {
         let v = valid(code, notes);
         let ident = Engine::builtin().identify(&v.observations);
-        create(pool, NewState { sample: &v, identification: &ident, author: Some("test") }, None).await.expect("create")
+        create(
+            pool,
+            NewState {
+                sample: &v,
+                identification: &ident,
+                author: Some("test"),
+            },
+            None,
+        )
+        .await
+        .expect("create")
     }
 
     #[tokio::test]
@@ -683,9 +798,26 @@ mod tests {
         let first = add(&pool, "BV-1", "first").await;
         let v = valid("BV-1", "second");
         let ident = Engine::builtin().identify(&v.observations);
-        let err = create(&pool, NewState { sample: &v, identification: &ident, author: None }, None).await;
+        let err = create(
+            &pool,
+            NewState {
+                sample: &v,
+                identification: &ident,
+                author: None,
+            },
+            None,
+        )
+        .await;
         assert!(matches!(err, Err(WriteError::CodeTaken { .. })), "{err:?}");
-        assert_eq!(get(&pool, &first.id).await.expect("get").expect("kept").notes.as_deref(), Some("first"));
+        assert_eq!(
+            get(&pool, &first.id)
+                .await
+                .expect("get")
+                .expect("kept")
+                .notes
+                .as_deref(),
+            Some("first")
+        );
     }
 
     #[tokio::test]
@@ -694,11 +826,30 @@ mod tests {
         let rec = add(&pool, "BV-2", "typo in the notse").await;
         let v = valid("BV-2", "typo in the notes");
         let ident = Engine::builtin().identify(&v.observations);
-        let r2 = update(&pool, &rec.id, 1, NewState { sample: &v, identification: &ident, author: Some("a") })
-            .await
-            .expect("update");
+        let r2 = update(
+            &pool,
+            &rec.id,
+            1,
+            NewState {
+                sample: &v,
+                identification: &ident,
+                author: Some("a"),
+            },
+        )
+        .await
+        .expect("update");
         assert_eq!(r2.revision, 2);
-        let stale = update(&pool, &rec.id, 1, NewState { sample: &v, identification: &ident, author: Some("b") }).await;
+        let stale = update(
+            &pool,
+            &rec.id,
+            1,
+            NewState {
+                sample: &v,
+                identification: &ident,
+                author: Some("b"),
+            },
+        )
+        .await;
         match stale {
             Err(WriteError::Stale { current, .. }) => assert_eq!(current.revision, 2),
             other => panic!("expected stale, got {other:?}"),
@@ -716,7 +867,9 @@ mod tests {
         let del = delete(&pool, &rec.id, None).await.expect("delete");
         assert!(del.deleted);
         assert_eq!(del.revision, 2);
-        let page = list(&pool, &Filter::default(), 10, None).await.expect("list");
+        let page = list(&pool, &Filter::default(), 10, None)
+            .await
+            .expect("list");
         assert!(page.samples.is_empty());
         let back = restore(&pool, &rec.id, None).await.expect("restore");
         assert!(!back.deleted);
@@ -728,12 +881,23 @@ mod tests {
     async fn keyset_pages_cover_every_record_once_newest_first() {
         let (pool, _d) = pool().await;
         for i in 0..25 {
-            add(&pool, &format!("K-{i:03}"), if i % 2 == 0 { "biotite schist" } else { "chlorite phyllite" }).await;
+            add(
+                &pool,
+                &format!("K-{i:03}"),
+                if i % 2 == 0 {
+                    "biotite schist"
+                } else {
+                    "chlorite phyllite"
+                },
+            )
+            .await;
         }
         let mut seen = Vec::new();
         let mut cursor = None;
         loop {
-            let page = list(&pool, &Filter::default(), 10, cursor).await.expect("page");
+            let page = list(&pool, &Filter::default(), 10, cursor)
+                .await
+                .expect("page");
             seen.extend(page.samples.iter().map(|s| s.sample_code.clone()));
             match page.next_cursor {
                 Some(c) => cursor = Some(c.parse().expect("cursor")),
@@ -743,14 +907,26 @@ mod tests {
         assert_eq!(seen.len(), 25);
         assert_eq!(seen[0], "K-024");
         assert_eq!(seen[24], "K-000");
-        let f = Filter { q: Some("chlor".into()), ..Default::default() };
-        assert_eq!(list(&pool, &f, 100, None).await.expect("fts").samples.len(), 12);
+        let f = Filter {
+            q: Some("chlor".into()),
+            ..Default::default()
+        };
+        assert_eq!(
+            list(&pool, &f, 100, None).await.expect("fts").samples.len(),
+            12
+        );
     }
 
     #[test]
     fn free_text_never_becomes_fts_syntax() {
-        assert_eq!(fts_query("biotite  schist").as_deref(), Some("\"biotite\"* \"schist\"*"));
-        assert_eq!(fts_query("\"OR\" NEAR( *").as_deref(), Some("\"OR\"* \"NEAR\"*"));
+        assert_eq!(
+            fts_query("biotite  schist").as_deref(),
+            Some("\"biotite\"* \"schist\"*")
+        );
+        assert_eq!(
+            fts_query("\"OR\" NEAR( *").as_deref(),
+            Some("\"OR\"* \"NEAR\"*")
+        );
         assert_eq!(fts_query("  ").as_deref(), None);
     }
 }

@@ -41,11 +41,11 @@ fn cookie_token(headers: &HeaderMap) -> Option<String> {
 }
 
 /// Whether the browser's own statement of origin allows this request.
+/// `Sec-Fetch-Site`, where the browser sends it, is the authority; older
+/// browsers are judged by `Origin` against `Host`.
 fn same_origin(headers: &HeaderMap) -> bool {
-    if let Some(site) = headers.get("sec-fetch-site").and_then(|v| v.to_str().ok())
-        && !matches!(site, "same-origin" | "none")
-    {
-        return false;
+    if let Some(site) = headers.get("sec-fetch-site").and_then(|v| v.to_str().ok()) {
+        return matches!(site, "same-origin" | "none");
     }
     if let Some(origin) = headers.get(header::ORIGIN).and_then(|v| v.to_str().ok()) {
         if origin == "null" {
@@ -56,9 +56,7 @@ fn same_origin(headers: &HeaderMap) -> bool {
             .and_then(|v| v.to_str().ok())
             .unwrap_or("");
         let origin_host = origin.split_once("://").map_or(origin, |(_, h)| h);
-        if origin_host != host {
-            return false;
-        }
+        return origin_host == host;
     }
     true
 }

@@ -24,6 +24,9 @@ pub enum ApiError {
     /// 404: no such resource.
     #[error("not found: {0}")]
     NotFound(FieldError),
+    /// 409: the change conflicts with what is stored.
+    #[error("conflict: {0}")]
+    Conflict(FieldError),
     /// 413: the body is over the limit.
     #[error("payload too large")]
     TooLarge,
@@ -57,6 +60,7 @@ impl IntoResponse for ApiError {
         let (status, err) = match self {
             ApiError::BadRequest(f) => (StatusCode::BAD_REQUEST, f),
             ApiError::NotFound(f) => (StatusCode::NOT_FOUND, f),
+            ApiError::Conflict(f) => (StatusCode::CONFLICT, f),
             ApiError::TooLarge => (
                 StatusCode::PAYLOAD_TOO_LARGE,
                 FieldError::new(

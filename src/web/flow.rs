@@ -313,8 +313,8 @@ async fn all_answer(
 pub struct CandidateView {
     /// Bars and markers.
     pub bar: LeaderView,
-    /// Group label.
-    pub group: &'static str,
+    /// Group label, unless it only repeats the name.
+    pub group: Option<&'static str>,
     /// Not a sheet silicate.
     pub lookalike: bool,
     /// Observations that raised it, in words.
@@ -442,8 +442,10 @@ async fn results(
         .map(|(c, bar)| CandidateView {
             bar,
             group: {
-                use crate::base::vocab::Vocab;
-                c.group.label()
+                use crate::base::vocab::{Group, Vocab};
+                let g = c.group.label();
+                (!g.eq_ignore_ascii_case(&c.name) && c.group != Group::NotSheetSilicate)
+                    .then_some(g)
             },
             lookalike: !c.sheet_silicate,
             raised: words(o, &c.agrees),

@@ -6,7 +6,10 @@ use crate::helpers::{Session, TestApp};
 
 /// The draft id in a question page's form action.
 fn draft_of(html: &str) -> String {
-    let start = html.find("action=\"/identify/").expect("a form posting to a draft") + "action=\"/identify/".len();
+    let start = html
+        .find("action=\"/identify/")
+        .expect("a form posting to a draft")
+        + "action=\"/identify/".len();
     html[start..start + 36].to_string()
 }
 
@@ -16,7 +19,8 @@ fn markers(html: &str) -> Vec<(String, f64)> {
         .map(|(i, _)| {
             let rest = &html[i + "data-entry-id=\"".len()..];
             let id = rest[..rest.find('"').expect("closing quote")].to_string();
-            let p = rest.find("data-probability=\"").expect("probability") + "data-probability=\"".len();
+            let p = rest.find("data-probability=\"").expect("probability")
+                + "data-probability=\"".len();
             let num = &rest[p..p + rest[p..].find('"').expect("closing quote")];
             (id, num.parse().expect("a number"))
         })
@@ -40,12 +44,23 @@ async fn starting_shows_a_question_form_for_a_new_stored_draft() {
     assert!(html.contains("name=\"_csrf\""));
     assert!(html.contains("name=\"question\""));
     assert!(!html.to_lowercase().contains("<script"));
-    assert!(r.headers[header::CONTENT_SECURITY_POLICY].to_str().expect("csp").contains("script-src 'none'"));
+    assert!(
+        r.headers[header::CONTENT_SECURITY_POLICY]
+            .to_str()
+            .expect("csp")
+            .contains("script-src 'none'")
+    );
     let cookie = r.headers[header::SET_COOKIE].to_str().expect("cookie");
-    assert!(cookie.contains("HttpOnly") && cookie.contains("SameSite=Strict"), "{cookie}");
+    assert!(
+        cookie.contains("HttpOnly") && cookie.contains("SameSite=Strict"),
+        "{cookie}"
+    );
     // The draft has its own URL, which shows a question too.
     let id = draft_of(&html);
-    assert_eq!(s.get(&format!("/identify/{id}")).await.status, StatusCode::OK);
+    assert_eq!(
+        s.get(&format!("/identify/{id}")).await.status,
+        StatusCode::OK
+    );
 }
 
 #[tokio::test]
@@ -69,11 +84,17 @@ async fn a_specimen_walks_from_questions_to_ranked_results() {
     assert_eq!(r.status, StatusCode::OK);
     let html = r.text();
     // Answers so far, each with a change link.
-    assert!(html.contains(&format!("{url}?q=tenacity")), "no change link");
+    assert!(
+        html.contains(&format!("{url}?q=tenacity")),
+        "no change link"
+    );
     let m = markers(&html);
     assert_eq!(m.len(), 26, "every entry has a marker");
     assert_eq!(m[0].0, "chlorite");
-    assert!(m.windows(2).all(|w| w[0].1 >= w[1].1), "markers in rank order");
+    assert!(
+        m.windows(2).all(|w| w[0].1 >= w[1].1),
+        "markers in rank order"
+    );
     let total: f64 = m.iter().map(|(_, p)| p).sum();
     assert!(total > 0.9 && total <= 1.001, "{total}");
     assert!(html.contains("To tell Chlorite from"), "a separating test");
@@ -95,7 +116,10 @@ async fn a_blank_answer_records_not_tested_and_is_not_asked_again() {
     let r = s.submit(&url, &format!("question={asked}")).await;
     assert_eq!(r.status, StatusCode::SEE_OTHER);
     let next = s.get(&url).await.text();
-    assert!(!next.contains(&format!("name=\"question\" value=\"{asked}\"")), "asked {asked} again");
+    assert!(
+        !next.contains(&format!("name=\"question\" value=\"{asked}\"")),
+        "asked {asked} again"
+    );
     assert!(next.contains("Not tested:"));
 }
 
@@ -105,12 +129,29 @@ async fn a_bad_value_comes_back_with_the_typed_value_and_a_message_and_saves_not
     let mut s = Session::new(&app);
     let id = started(&mut s).await;
     let url = format!("/identify/{id}");
-    s.submit(&url, "question=cleavage&cleavage=one_perfect").await;
+    s.submit(&url, "question=cleavage&cleavage=one_perfect")
+        .await;
     let cases = [
-        ("question=hardness&hardness_min=soft", "value=\"soft\"", "not a number"),
-        ("question=hardness&hardness_min=4&hardness_max=3", "value=\"4\"", "must not exceed"),
-        ("question=specific_gravity&dry_mass_g=10&submerged_mass_g=12", "value=\"12\"", "less than the dry mass"),
-        ("question=colour&colour=green&colour=mauve", "", "not allowed"),
+        (
+            "question=hardness&hardness_min=soft",
+            "value=\"soft\"",
+            "not a number",
+        ),
+        (
+            "question=hardness&hardness_min=4&hardness_max=3",
+            "value=\"4\"",
+            "must not exceed",
+        ),
+        (
+            "question=specific_gravity&dry_mass_g=10&submerged_mass_g=12",
+            "value=\"12\"",
+            "less than the dry mass",
+        ),
+        (
+            "question=colour&colour=green&colour=mauve",
+            "",
+            "not allowed",
+        ),
         ("question=cleavage&cleavage=perfect", "", "one_perfect"),
     ];
     for (fields, kept, message) in cases {
@@ -133,26 +174,43 @@ async fn forged_posts_are_refused_with_a_clear_page() {
     let id = started(&mut s).await;
     let url = format!("/identify/{id}");
     // Wrong token.
-    let r = s.post_form(&url, "_csrf=0123456789abcdef0123456789abcdef&question=cleavage&cleavage=one_perfect").await;
+    let r = s
+        .post_form(
+            &url,
+            "_csrf=0123456789abcdef0123456789abcdef&question=cleavage&cleavage=one_perfect",
+        )
+        .await;
     assert_eq!(r.status, StatusCode::FORBIDDEN);
     assert!(r.text().contains("nothing was changed"));
     // No token.
-    let r = s.post_form(&url, "question=cleavage&cleavage=one_perfect").await;
+    let r = s
+        .post_form(&url, "question=cleavage&cleavage=one_perfect")
+        .await;
     assert_eq!(r.status, StatusCode::FORBIDDEN);
     // A cookie-less client.
     let mut stranger = Session::new(&app);
-    let r = stranger.post_form(&url, "_csrf=x&question=cleavage&cleavage=one_perfect").await;
+    let r = stranger
+        .post_form(&url, "_csrf=x&question=cleavage&cleavage=one_perfect")
+        .await;
     assert_eq!(r.status, StatusCode::FORBIDDEN);
     // Another site's page, right token or not.
     let req = axum::http::Request::post(&url)
         .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
         .header(header::COOKIE, s.cookie.clone().expect("cookie"))
         .header("sec-fetch-site", "cross-site")
-        .body(axum::body::Body::from(format!("_csrf={}&question=cleavage&cleavage=one_perfect", s.token())))
+        .body(axum::body::Body::from(format!(
+            "_csrf={}&question=cleavage&cleavage=one_perfect",
+            s.token()
+        )))
         .expect("request");
     assert_eq!(app.send(req).await.status, StatusCode::FORBIDDEN);
     // Nothing was recorded.
-    assert!(!s.get(&format!("{url}/results")).await.text().contains("one perfect cleavage"));
+    assert!(
+        !s.get(&format!("{url}/results"))
+            .await
+            .text()
+            .contains("one perfect cleavage")
+    );
 }
 
 #[tokio::test]
@@ -182,7 +240,10 @@ async fn a_change_link_shows_the_recorded_answer_selected() {
     let url = format!("/identify/{id}");
     s.submit(&url, "question=luster&luster=pearly").await;
     let html = s.get(&format!("{url}?q=luster")).await.text();
-    assert!(html.contains("value=\"pearly\" checked"), "pearly not selected");
+    assert!(
+        html.contains("value=\"pearly\" checked"),
+        "pearly not selected"
+    );
 }
 
 #[tokio::test]
@@ -205,10 +266,18 @@ async fn everything_at_once_goes_straight_to_the_results() {
     let m = markers(&s.get(&r.location()).await.text());
     assert_eq!(m[0].0, "biotite");
     // A bad value keeps every typed value and saves nothing.
-    let bad = s.submit(&format!("/identify/{id}/all"), "cleavage=none_visible&hardness_max=eleven").await;
+    let bad = s
+        .submit(
+            &format!("/identify/{id}/all"),
+            "cleavage=none_visible&hardness_max=eleven",
+        )
+        .await;
     assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(bad.text().contains("value=\"none_visible\" checked"));
-    assert_eq!(markers(&s.get(&format!("/identify/{id}/results")).await.text())[0].0, "biotite");
+    assert_eq!(
+        markers(&s.get(&format!("/identify/{id}/results")).await.text())[0].0,
+        "biotite"
+    );
 }
 
 #[tokio::test]
@@ -233,13 +302,25 @@ async fn drafts_are_listed_and_can_be_discarded() {
     let app = TestApp::new().await;
     let mut s = Session::new(&app);
     let id = started(&mut s).await;
-    s.submit(&format!("/identify/{id}"), "question=habit&habit=fibrous").await;
+    s.submit(&format!("/identify/{id}"), "question=habit&habit=fibrous")
+        .await;
     let list = s.get("/identify/drafts").await.text();
-    assert!(list.contains(&format!("/identify/{id}")), "draft not listed");
+    assert!(
+        list.contains(&format!("/identify/{id}")),
+        "draft not listed"
+    );
     let r = s.submit(&format!("/identify/{id}/discard"), "").await;
     assert_eq!(r.status, StatusCode::SEE_OTHER);
-    assert!(!s.get("/identify/drafts").await.text().contains(&format!("/identify/{id}\"")));
-    assert_eq!(s.get(&format!("/identify/{id}")).await.status, StatusCode::NOT_FOUND);
+    assert!(
+        !s.get("/identify/drafts")
+            .await
+            .text()
+            .contains(&format!("/identify/{id}\""))
+    );
+    assert_eq!(
+        s.get(&format!("/identify/{id}")).await.status,
+        StatusCode::NOT_FOUND
+    );
     // Discarding needs the token too.
     let other = started(&mut s).await;
     let r = s.post_form(&format!("/identify/{other}/discard"), "").await;
@@ -251,13 +332,21 @@ async fn an_asbestiform_specimen_shows_the_caution_box_and_the_lab_line() {
     let app = TestApp::new().await;
     let mut s = Session::new(&app);
     let id = started(&mut s).await;
-    s.submit(&format!("/identify/{id}/all"), "habit=fibrous&luster=silky&setting=ultramafic").await;
+    s.submit(
+        &format!("/identify/{id}/all"),
+        "habit=fibrous&luster=silky&setting=ultramafic",
+    )
+    .await;
     let html = s.get(&format!("/identify/{id}/results")).await.text();
     assert!(html.contains("caution-asbestos"));
     assert!(html.contains("Do not break"));
     assert!(html.contains("local regulations"));
     let serp = started(&mut s).await;
-    s.submit(&format!("/identify/{serp}/all"), "habit=massive&luster=waxy&colour=green&setting=ultramafic").await;
+    s.submit(
+        &format!("/identify/{serp}/all"),
+        "habit=massive&luster=waxy&colour=green&setting=ultramafic",
+    )
+    .await;
     let html = s.get(&format!("/identify/{serp}/results")).await.text();
     assert!(html.contains("In the laboratory:"), "no lab line");
     assert!(html.contains("XRD"));
@@ -275,5 +364,28 @@ async fn outside_the_base_is_said_plainly_when_large() {
     )
     .await;
     let html = s.get(&format!("/identify/{id}/results")).await.text();
-    assert!(html.contains("fit none of the minerals in the base"), "no outside warning");
+    assert!(
+        html.contains("fit none of the minerals in the base"),
+        "no outside warning"
+    );
+}
+
+#[tokio::test]
+async fn a_real_browser_s_same_origin_post_is_accepted() {
+    // What Chromium sends on a form post to the page's own origin.
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let id = started(&mut s).await;
+    let req = axum::http::Request::post(format!("/identify/{id}"))
+        .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+        .header(header::COOKIE, s.cookie.clone().expect("cookie"))
+        .header(header::HOST, "127.0.0.1:8080")
+        .header(header::ORIGIN, "http://127.0.0.1:8080")
+        .header("sec-fetch-site", "same-origin")
+        .body(axum::body::Body::from(format!(
+            "_csrf={}&question=cleavage&cleavage=one_perfect",
+            s.token()
+        )))
+        .expect("request");
+    assert_eq!(app.send(req).await.status, StatusCode::SEE_OTHER);
 }

@@ -129,7 +129,10 @@ impl<'a> Session<'a> {
     }
 
     fn remember(&mut self, r: &Reply) {
-        if let Some(v) = r.headers.get(header::SET_COOKIE).and_then(|v| v.to_str().ok())
+        if let Some(v) = r
+            .headers
+            .get(header::SET_COOKIE)
+            .and_then(|v| v.to_str().ok())
             && let Some(kv) = v.split(';').next()
         {
             self.cookie = Some(kv.to_string());
@@ -157,11 +160,15 @@ impl<'a> Session<'a> {
 
     /// POSTs a form body (already urlencoded) with the session's cookie.
     pub async fn post_form(&mut self, uri: &str, body: &str) -> Reply {
-        let mut b = Request::post(uri).header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
+        let mut b =
+            Request::post(uri).header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
         if let Some(c) = &self.cookie {
             b = b.header(header::COOKIE, c);
         }
-        let r = self.app.send(b.body(Body::from(body.to_string())).expect("request")).await;
+        let r = self
+            .app
+            .send(b.body(Body::from(body.to_string())).expect("request"))
+            .await;
         self.remember(&r);
         r
     }
