@@ -11,7 +11,8 @@ CREATE TABLE projects (
     code        TEXT PRIMARY KEY NOT NULL,   -- short code, a-z 0-9 - _
     name        TEXT NOT NULL,
     -- Pattern for suggesting the next sample code: literal text with
-    -- {year} (four digits) and {seq:N} (a sequence zero-padded to N digits).
+    -- {year} (four digits), {yy} (two digits) and {seq:N} (a sequence
+    -- zero-padded to N digits).
     code_scheme TEXT NOT NULL DEFAULT '{seq:4}',
     created_at  TEXT NOT NULL
 ) STRICT;

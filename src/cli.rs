@@ -28,6 +28,16 @@ pub enum Command {
     /// Start the web service (the default): open or create the database,
     /// migrate it, and listen for browsers and API clients.
     Serve,
+    /// Write a consistent copy of the database to PATH, safely while the
+    /// service runs (SQLite's VACUUM INTO). PATH must not exist yet.
+    Backup {
+        /// Where to write the copy.
+        path: PathBuf,
+    },
+    /// Load the invented demo project (a made-up crew, stations and
+    /// specimens) so that a newcomer sees a filled log. Run it again and
+    /// nothing is duplicated.
+    Demo,
 }
 
 /// Where to listen and which database file to use.
@@ -76,6 +86,39 @@ pub fn default_db_path() -> PathBuf {
         .join("basal.sqlite")
 }
 
+/// Why a command failed.
+#[derive(Debug, thiserror::Error)]
+pub enum CommandError {
+    /// The backup target exists already.
+    #[error("{0} exists already; choose a new file name for the backup (nothing was written)")]
+    TargetExists(String),
+    /// The store failed.
+    #[error("{0}")]
+    Store(#[from] crate::store::StoreError),
+    /// Writing a demo sample failed.
+    #[error("{0}")]
+    Write(#[from] crate::store::samples::WriteError),
+}
+
+/// `basal backup PATH`.
+pub async fn backup(config: &Config, path: &std::path::Path) -> Result<u64, CommandError> {
+    if path.exists() {
+        return Err(CommandError::TargetExists(path.display().to_string()));
+    }
+    let pool = crate::store::open(&config.db).await?;
+    crate::store::backup_to(&pool, path).await?;
+    pool.close().await;
+    Ok(std::fs::metadata(path).map(|m| m.len()).unwrap_or(0))
+}
+
+/// `basal demo`: returns how many samples were added.
+pub async fn demo(config: &Config) -> Result<usize, CommandError> {
+    let pool = crate::store::open(&config.db).await?;
+    let n = crate::demo::load(&pool, crate::engine::Engine::builtin()).await?;
+    pool.close().await;
+    Ok(n)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -104,6 +147,33 @@ mod tests {
         let cfg = cli.serve.config();
         assert_eq!(cfg.listen.port(), 9999);
         assert_eq!(cfg.db, PathBuf::from("/tmp/x.sqlite"));
+    }
+
+    #[tokio::test]
+    async fn a_backup_is_a_consistent_copy_and_never_overwrites() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let config = Config {
+            listen: "127.0.0.1:0".parse().expect("addr"),
+            db: dir.path().join("live.sqlite"),
+        };
+        let added = demo(&config).await.expect("demo");
+        assert!(added >= 10);
+        assert_eq!(
+            demo(&config).await.expect("again"),
+            0,
+            "a second demo adds nothing"
+        );
+        let target = dir.path().join("copy.sqlite");
+        assert!(backup(&config, &target).await.expect("backup") > 0);
+        let copy = crate::store::open(&target).await.expect("open copy");
+        let page = crate::store::samples::list(&copy, &Default::default(), 500, None)
+            .await
+            .expect("list");
+        assert_eq!(page.samples.len(), added);
+        assert!(matches!(
+            backup(&config, &target).await,
+            Err(CommandError::TargetExists(_))
+        ));
     }
 
     #[test]

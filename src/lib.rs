@@ -15,6 +15,7 @@
 pub mod base;
 pub mod chem;
 pub mod cli;
+pub mod demo;
 pub mod engine;
 pub mod samples;
 pub mod store;

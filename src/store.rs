@@ -131,6 +131,20 @@ pub async fn note_base_version(
     Ok(previous)
 }
 
+/// Writes a consistent copy of the whole database to `path` with
+/// `VACUUM INTO`: a single read transaction, so a running service can keep
+/// writing (WAL) while the copy is made.
+#[tracing::instrument(skip(pool))]
+pub async fn backup_to(pool: &SqlitePool, path: &Path) -> Result<(), StoreError> {
+    let target = path.to_string_lossy().into_owned();
+    sqlx::query("VACUUM INTO ?1")
+        .bind(target)
+        .execute(pool)
+        .await
+        .context("writing the backup")?;
+    Ok(())
+}
+
 /// Reads one pragma as text, for checks of how the database is opened.
 #[tracing::instrument(skip(pool))]
 pub async fn pragma(pool: &SqlitePool, name: Pragma) -> Result<String, StoreError> {

@@ -189,3 +189,42 @@ impl Reply {
             .to_string()
     }
 }
+
+impl TestApp {
+    /// Sends `body` with `method` and a JSON content type.
+    pub async fn send_json(&self, method: axum::http::Method, uri: &str, body: &str) -> Reply {
+        self.send(
+            Request::builder()
+                .method(method)
+                .uri(uri)
+                .header(header::CONTENT_TYPE, "application/json")
+                .body(Body::from(body.to_string()))
+                .expect("request"),
+        )
+        .await
+    }
+
+    /// POSTs a JSON body.
+    pub async fn post_json(&self, uri: &str, body: &str) -> Reply {
+        self.send_json(axum::http::Method::POST, uri, body).await
+    }
+
+    /// PUTs a JSON body.
+    pub async fn put_json(&self, uri: &str, body: &str) -> Reply {
+        self.send_json(axum::http::Method::PUT, uri, body).await
+    }
+
+    /// DELETE without a body.
+    pub async fn delete(&self, uri: &str) -> Reply {
+        self.send(Request::delete(uri).body(Body::empty()).expect("request"))
+            .await
+    }
+
+    /// A second pool on the test database, for set-up the API does not
+    /// offer yet (creating a project).
+    pub async fn pool(&self) -> sqlx::SqlitePool {
+        basal::store::open(&self._dir.path().join("basal.sqlite"))
+            .await
+            .expect("open db")
+    }
+}
