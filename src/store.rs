@@ -96,6 +96,21 @@ pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
     Ok(pool)
 }
 
+/// Starts a write transaction: the one path every write takes.
+///
+/// `BEGIN IMMEDIATE` takes SQLite's write lock at the start, so concurrent
+/// writers queue on the busy timeout. A deferred transaction that reads
+/// first and writes later could instead fail at once with "database is
+/// locked" when another writer committed in between (WAL cannot upgrade a
+/// stale read snapshot).
+pub async fn write_tx(
+    pool: &SqlitePool,
+) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, StoreError> {
+    pool.begin_with("BEGIN IMMEDIATE")
+        .await
+        .context("starting a write transaction")
+}
+
 /// True when the database answers a trivial query.
 #[tracing::instrument(skip(pool))]
 pub async fn ping(pool: &SqlitePool) -> Result<(), StoreError> {
@@ -113,7 +128,7 @@ pub async fn note_base_version(
     pool: &SqlitePool,
     version: &str,
 ) -> Result<Option<String>, StoreError> {
-    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let mut tx = write_tx(pool).await?;
     let previous: Option<String> =
         sqlx::query_scalar("SELECT value FROM meta WHERE key = 'base_version'")
             .fetch_optional(&mut *tx)

@@ -65,7 +65,7 @@ const EMPTY_DRAFT_MAX_AGE: &str = "-1 day";
 #[tracing::instrument(skip(pool))]
 pub async fn create(pool: &SqlitePool) -> Result<Draft, StoreError> {
     let id = uuid::Uuid::new_v4().to_string();
-    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let mut tx = super::write_tx(pool).await?;
     sqlx::query(
         "DELETE FROM drafts WHERE answers = 0 AND finished_at IS NULL
          AND updated_at < strftime('%Y-%m-%dT%H:%M:%fZ', 'now', ?1)",

@@ -298,7 +298,7 @@ pub async fn create(
     s: NewState<'_>,
     keep: Option<&Kept>,
 ) -> Result<SampleRecord, WriteError> {
-    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let mut tx = super::write_tx(pool).await?;
     let rec = insert_in(&mut tx, &s, keep, Action::Create).await?;
     tx.commit().await.context("committing a new sample")?;
     tracing::info!(sample.id = %rec.id, "sample created");
@@ -391,7 +391,7 @@ pub async fn update(
     expected_revision: i64,
     s: NewState<'_>,
 ) -> Result<SampleRecord, WriteError> {
-    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let mut tx = super::write_tx(pool).await?;
     let current = fetch_in(&mut tx, id)
         .await?
         .ok_or_else(|| WriteError::NotFound(id.to_string()))?;
@@ -459,7 +459,7 @@ async fn set_tombstone(
     author: Option<&str>,
     delete: bool,
 ) -> Result<SampleRecord, WriteError> {
-    let mut tx = pool.begin().await.context("starting a transaction")?;
+    let mut tx = super::write_tx(pool).await?;
     let current = fetch_in(&mut tx, id)
         .await?
         .ok_or_else(|| WriteError::NotFound(id.to_string()))?;

@@ -6,4 +6,5 @@ mod helpers;
 mod identify;
 mod minerals;
 mod reference_pages;
+mod samples;
 mod service;
