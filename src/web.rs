@@ -11,6 +11,7 @@ pub mod forms;
 pub mod pages;
 pub mod reference;
 pub mod samples_api;
+pub mod samples_pages;
 pub mod views;
 
 use std::future::Future;
@@ -54,6 +55,7 @@ pub fn app(state: AppState) -> Router {
         .merge(reference::router())
         .merge(flow::router())
         .merge(samples_api::router())
+        .merge(samples_pages::router())
         .fallback(pages::not_found)
         .with_state(state)
         .layer(axum::middleware::from_fn(csrf::layer))
