@@ -38,6 +38,23 @@ pub enum Command {
     /// specimens) so that a newcomer sees a filled log. Run it again and
     /// nothing is duplicated.
     Demo,
+    /// Import samples from a CSV file (the columns of the CSV export) into
+    /// a project. Every row is checked first and every bad row reported
+    /// with its line number; only a file with no bad row is written, all
+    /// of it in one transaction.
+    Import {
+        /// The CSV file.
+        file: PathBuf,
+        /// The project to import into (created when it does not exist).
+        #[arg(long)]
+        project: String,
+        /// Check and report only; write nothing.
+        #[arg(long)]
+        dry_run: bool,
+        /// Who makes the import, for the records' history.
+        #[arg(long)]
+        author: Option<String>,
+    },
 }
 
 /// Where to listen and which database file to use.
@@ -95,6 +112,12 @@ pub enum CommandError {
     /// The store failed.
     #[error("{0}")]
     Store(#[from] crate::store::StoreError),
+    /// The file cannot be read.
+    #[error("cannot read {0}: {1}")]
+    Read(String, String),
+    /// The file as a whole cannot be imported.
+    #[error("{0}")]
+    Import(String),
     /// Writing a demo sample failed.
     #[error("{0}")]
     Write(#[from] crate::store::samples::WriteError),
@@ -109,6 +132,81 @@ pub async fn backup(config: &Config, path: &std::path::Path) -> Result<u64, Comm
     crate::store::backup_to(&pool, path).await?;
     pool.close().await;
     Ok(std::fs::metadata(path).map(|m| m.len()).unwrap_or(0))
+}
+
+/// What an import did.
+#[derive(Debug)]
+pub struct ImportReport {
+    /// Rows that passed every check.
+    pub valid: usize,
+    /// Rows written (0 on a dry run).
+    pub written: usize,
+    /// Every refused row.
+    pub errors: Vec<crate::import::RowError>,
+}
+
+/// `basal import FILE --project CODE [--dry-run]`.
+pub async fn import(
+    config: &Config,
+    file: &std::path::Path,
+    project: &str,
+    dry_run: bool,
+    author: Option<&str>,
+) -> Result<ImportReport, CommandError> {
+    let data = std::fs::read(file)
+        .map_err(|e| CommandError::Read(file.display().to_string(), e.to_string()))?;
+    let pool = crate::store::open(&config.db).await?;
+    let taken: std::collections::HashSet<String> = crate::store::samples::codes_in(&pool, project)
+        .await?
+        .into_iter()
+        .collect();
+    let rows = data
+        .iter()
+        .filter(|b| **b == b'\n')
+        .count()
+        .saturating_sub(1) as u64;
+    let bar = progress_bar(rows, "checking");
+    let checked = crate::import::check(
+        &data,
+        project,
+        &taken,
+        crate::engine::Engine::builtin(),
+        &|| bar.inc(1),
+    )
+    .map_err(|e| CommandError::Import(e.to_string()))?;
+    bar.finish_and_clear();
+    let valid = checked.items.len();
+    if !checked.errors.is_empty() || dry_run {
+        pool.close().await;
+        return Ok(ImportReport {
+            valid,
+            written: 0,
+            errors: checked.errors,
+        });
+    }
+    crate::store::samples::create_project(&pool, project, project, "{seq:4}").await?;
+    let bar = progress_bar(valid as u64, "writing");
+    let written =
+        crate::store::samples::import_all(&pool, &checked.items, author, &|n| bar.set_position(n))
+            .await?;
+    bar.finish_and_clear();
+    pool.close().await;
+    Ok(ImportReport {
+        valid,
+        written,
+        errors: Vec::new(),
+    })
+}
+
+fn progress_bar(len: u64, what: &'static str) -> indicatif::ProgressBar {
+    let bar = indicatif::ProgressBar::new(len);
+    if let Ok(style) = indicatif::ProgressStyle::with_template(
+        "{msg:>9} [{bar:40}] {pos}/{len} rows ({per_sec}, {eta} left)",
+    ) {
+        bar.set_style(style.progress_chars("=> "));
+    }
+    bar.set_message(what);
+    bar
 }
 
 /// `basal demo`: returns how many samples were added.
@@ -174,6 +272,73 @@ mod tests {
             backup(&config, &target).await,
             Err(CommandError::TargetExists(_))
         ));
+    }
+
+    #[tokio::test]
+    async fn an_export_imports_into_an_empty_database_as_the_same_records() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let first = Config {
+            listen: "127.0.0.1:0".parse().expect("addr"),
+            db: dir.path().join("a.sqlite"),
+        };
+        demo(&first).await.expect("demo");
+        let pool = crate::store::open(&first.db).await.expect("open");
+        let filter = crate::store::samples::Filter {
+            project: Some("demo".into()),
+            ..Default::default()
+        };
+        let before = crate::store::samples::list(&pool, &filter, 500, None)
+            .await
+            .expect("list")
+            .samples;
+        let mut w = csv::Writer::from_writer(Vec::new());
+        w.write_record(crate::web::samples_api::CSV_COLUMNS)
+            .expect("header");
+        for r in &before {
+            w.write_record(crate::web::samples_api::csv_row(r))
+                .expect("row");
+        }
+        let file = dir.path().join("export.csv");
+        std::fs::write(&file, w.into_inner().expect("csv")).expect("write");
+
+        let second = Config {
+            listen: first.listen,
+            db: dir.path().join("b.sqlite"),
+        };
+        let dry = import(&second, &file, "demo", true, None)
+            .await
+            .expect("dry run");
+        assert_eq!((dry.valid, dry.written), (before.len(), 0));
+        let report = import(&second, &file, "demo", false, Some("round trip"))
+            .await
+            .expect("import");
+        assert!(report.errors.is_empty(), "{:?}", report.errors);
+        assert_eq!(report.written, before.len());
+        let pool = crate::store::open(&second.db).await.expect("open");
+        let after = crate::store::samples::list(&pool, &filter, 500, None)
+            .await
+            .expect("list")
+            .samples;
+        assert_eq!(after.len(), before.len());
+        for (a, b) in after.iter().zip(&before) {
+            let (va, vb) = (
+                serde_json::to_value(a).expect("json"),
+                serde_json::to_value(b).expect("json"),
+            );
+            for (k, x) in va.as_object().expect("object") {
+                assert_eq!(
+                    Some(x),
+                    vb.get(k),
+                    "{}: field {k} differs after the round trip",
+                    b.sample_code
+                );
+            }
+        }
+        // A second import of the same file is refused whole: every code is taken.
+        let again = import(&second, &file, "demo", false, None)
+            .await
+            .expect("checked");
+        assert_eq!((again.written, again.errors.len()), (0, before.len()));
     }
 
     #[test]

@@ -17,6 +17,7 @@ pub mod chem;
 pub mod cli;
 pub mod demo;
 pub mod engine;
+pub mod import;
 pub mod samples;
 pub mod store;
 pub mod web;

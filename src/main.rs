@@ -23,6 +23,40 @@ async fn main() -> std::process::ExitCode {
                     path.display()
                 );
             }),
+        Command::Import {
+            file,
+            project,
+            dry_run,
+            author,
+        } => match basal::cli::import(&config, &file, &project, dry_run, author.as_deref()).await {
+            Err(e) => Err(e.into()),
+            Ok(r) if !r.errors.is_empty() => {
+                for e in &r.errors {
+                    eprintln!("{e}");
+                }
+                Err(format!(
+                        "{} of {} rows refused; nothing was written. Fix them and import again (--dry-run checks without writing).",
+                        r.errors.len(),
+                        r.errors.len() + r.valid
+                    )
+                    .into())
+            }
+            Ok(r) if dry_run => {
+                println!(
+                    "dry run: all {} rows are valid; nothing was written",
+                    r.valid
+                );
+                Ok(())
+            }
+            Ok(r) => {
+                println!(
+                    "imported {} samples into project {project} of {}",
+                    r.written,
+                    config.db.display()
+                );
+                Ok(())
+            }
+        },
         Command::Demo => basal::cli::demo(&config)
             .await
             .map_err(Into::into)

@@ -305,9 +305,11 @@ pub async fn create(
     Ok(rec)
 }
 
-/// An id and timestamps carried over from an export.
+/// An id, timestamps and revision number carried over from an export.
 #[derive(Clone, Debug, Default)]
 pub struct Kept {
+    /// Revision number (an exported record keeps its count).
+    pub revision: Option<i64>,
     /// UUID.
     pub id: Option<String>,
     /// Created.
@@ -338,7 +340,7 @@ pub async fn insert_in(
         "INSERT INTO samples (id, project, sample_code, revision, created_at, updated_at, collected_on, collector,
             station, latitude, longitude, coordinate_uncertainty_m, setting, lithology, observations, field_id,
             notes, identification, base_version)
-         VALUES (?1, ?2, ?3, 1, COALESCE(?4, {NOW}), COALESCE(?5, ?4, {NOW}), ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14,
+         VALUES (?1, ?2, ?3, COALESCE(?19, 1), COALESCE(?4, {NOW}), COALESCE(?5, ?4, {NOW}), ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14,
             ?15, ?16, ?17, ?18)
          RETURNING {COLUMNS}"
     );
@@ -361,12 +363,56 @@ pub async fn insert_in(
         .bind(&v.notes)
         .bind(ident)
         .bind(&s.identification.base_version)
+        .bind(keep.and_then(|k| k.revision))
         .fetch_one(&mut **tx)
         .await
         .map_err(|e| classify(e, v))?;
     let (_, rec) = row.into_record()?;
     append_revision(tx, &rec, s.author, action).await?;
     Ok(rec)
+}
+
+/// One record of an import, validated.
+pub struct ImportItem {
+    /// The fields.
+    pub sample: ValidSample,
+    /// Its identification (kept from the file, or computed).
+    pub identification: Identification,
+    /// Id, timestamps and revision from the file.
+    pub keep: Kept,
+}
+
+/// Writes every item in one transaction: all of them, or (on any error)
+/// none. `progress` is told after each row.
+#[tracing::instrument(skip(pool, items, progress), fields(rows = items.len()))]
+pub async fn import_all(
+    pool: &SqlitePool,
+    items: &[ImportItem],
+    author: Option<&str>,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<usize, WriteError> {
+    let mut tx = super::write_tx(pool).await?;
+    for (i, it) in items.iter().enumerate() {
+        let state = NewState {
+            sample: &it.sample,
+            identification: &it.identification,
+            author,
+        };
+        insert_in(&mut tx, &state, Some(&it.keep), Action::Import).await?;
+        progress(i as u64 + 1);
+    }
+    tx.commit().await.context("committing the import")?;
+    Ok(items.len())
+}
+
+/// Sample codes already used in a project.
+#[tracing::instrument(skip(pool))]
+pub async fn codes_in(pool: &SqlitePool, project: &str) -> Result<Vec<String>, StoreError> {
+    sqlx::query_scalar("SELECT sample_code FROM samples WHERE project = ?1")
+        .bind(project)
+        .fetch_all(pool)
+        .await
+        .context("reading sample codes")
 }
 
 /// The record with this id, tombstoned or not.

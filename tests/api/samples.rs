@@ -899,3 +899,117 @@ async fn the_geojson_export_takes_the_list_filters_and_may_be_empty() {
     assert_eq!(none.status, StatusCode::OK);
     assert_eq!(count(&none), 0, "BV-02 has no coordinates");
 }
+
+// ---------------------------------------------------------------- concurrency
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 4)]
+async fn concurrent_edits_of_one_revision_give_one_success_and_conflicts_never_a_500() {
+    // Arrange: eight people send an edit of revision 1 at the same moment,
+    // over and over.
+    let app = std::sync::Arc::new(TestApp::new().await);
+    for round in 0..5 {
+        let rec = create_code(&app, &format!("BV-C{round}")).await;
+        let id_url = url(&rec["id"]);
+        // Act
+        let mut tasks = Vec::new();
+        for n in 0..8 {
+            let app = app.clone();
+            let id_url = id_url.clone();
+            let body = json!({
+                "sample_code": format!("BV-C{round}"),
+                "notes": format!("edit {n}"),
+                "revision": 1
+            })
+            .to_string();
+            tasks.push(tokio::spawn(
+                async move { app.put_json(&id_url, &body).await },
+            ));
+        }
+        let mut statuses = Vec::new();
+        for t in tasks {
+            let r = t.await.expect("task");
+            statuses.push((r.status, r.text()));
+        }
+        // Assert
+        let ok = statuses
+            .iter()
+            .filter(|(s, _)| *s == StatusCode::OK)
+            .count();
+        for (s, body) in &statuses {
+            assert!(
+                *s == StatusCode::OK || *s == StatusCode::CONFLICT,
+                "round {round}: {s} {body}"
+            );
+        }
+        assert_eq!(ok, 1, "round {round}: {statuses:?}");
+        assert_eq!(app.get(&id_url).await.json()["revision"], 2);
+    }
+}
+
+#[tokio::test]
+async fn renaming_a_sample_to_a_taken_code_is_a_conflict_and_changes_nothing() {
+    // Arrange
+    let app = TestApp::new().await;
+    create_code(&app, "BV-R1").await;
+    let second = create_code(&app, "BV-R2").await;
+    let body = json!({"sample_code": "BV-R1", "revision": 1});
+    // Act
+    let r = app.put_json(&url(&second["id"]), &body.to_string()).await;
+    // Assert
+    assert_eq!(r.status, StatusCode::CONFLICT, "{}", r.text());
+    assert_eq!(r.error().0, "sample_code");
+    let now = app.get(&url(&second["id"])).await.json();
+    assert_eq!(
+        (now["sample_code"].as_str(), now["revision"].as_i64()),
+        (Some("BV-R2"), Some(1))
+    );
+}
+
+#[tokio::test]
+async fn exports_larger_than_one_batch_hold_every_sample_once() {
+    // Arrange: more rows than the export reads per round trip (1000,
+    // `EXPORT_BATCH` in src/web/samples_api.rs).
+    let app = TestApp::new().await;
+    let n = 1003;
+    for i in 0..n {
+        let body =
+            json!({"sample_code": format!("BV-E{i:04}"), "latitude": 46.0, "longitude": 7.0});
+        let r = app.post_json(SAMPLES, &body.to_string()).await;
+        assert_eq!(r.status, StatusCode::CREATED);
+    }
+    // Act
+    let csv_reply = app.get("/export/samples.csv").await;
+    let geo_reply = app.get("/export/samples.geojson").await;
+    // Assert
+    let mut rd = csv::Reader::from_reader(csv_reply.body.as_slice());
+    let i = rd
+        .headers()
+        .expect("headers")
+        .iter()
+        .position(|h| h == "sample_code")
+        .expect("column");
+    let mut rows: Vec<String> = rd
+        .records()
+        .map(|r| r.expect("row")[i].to_string())
+        .collect();
+    rows.sort();
+    rows.dedup();
+    assert_eq!(rows.len(), n, "one CSV row per sample, no header repeated");
+    let gj: geojson::GeoJson = geo_reply.text().parse().expect("GeoJSON");
+    let geojson::GeoJson::FeatureCollection(fc) = gj else {
+        panic!("not a FeatureCollection");
+    };
+    let mut ids: Vec<String> = fc
+        .features
+        .iter()
+        .map(|f| {
+            f.property("sample_code")
+                .and_then(Value::as_str)
+                .expect("code")
+                .to_string()
+        })
+        .collect();
+    ids.sort();
+    ids.dedup();
+    assert_eq!(ids.len(), n);
+}

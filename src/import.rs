@@ -1,0 +1,433 @@
+//! CSV import: the export's columns back into records.
+//!
+//! Every row is validated first, and every bad row is reported with its
+//! line number and the reason; only a file without a single bad row is
+//! written, in one transaction (all or nothing). A file exported by
+//! `GET /export/samples.csv` imports into an empty database as the same
+//! records: ids, timestamps, revision numbers and the identification
+//! snapshots (with their base version) are kept as they were.
+
+use std::collections::HashSet;
+
+use crate::engine::input::{describe_observation_field, object_from_json};
+use crate::engine::{Engine, Identification, Observations};
+use crate::samples::{SampleInput, valid_project_code};
+use crate::store::samples::{ImportItem, Kept};
+
+/// Columns read from the file (the export's names); the export's two
+/// convenience columns are accepted and ignored.
+pub const COLUMNS: &[&str] = &[
+    "id",
+    "project",
+    "sample_code",
+    "collected_on",
+    "collector",
+    "station",
+    "latitude",
+    "longitude",
+    "coordinate_uncertainty_m",
+    "setting",
+    "lithology",
+    "field_id",
+    "notes",
+    "observations",
+    "created_at",
+    "updated_at",
+    "revision",
+    "base_version",
+    "identification",
+    "top_candidate",
+    "top_probability",
+];
+
+/// One refused row.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct RowError {
+    /// Line in the file (1 is the header).
+    pub line: u64,
+    /// The column at fault, or "" for the row.
+    pub column: String,
+    /// What is wrong and what is allowed.
+    pub message: String,
+}
+
+impl std::fmt::Display for RowError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        if self.column.is_empty() {
+            write!(f, "line {}: {}", self.line, self.message)
+        } else {
+            write!(f, "line {}: {}: {}", self.line, self.column, self.message)
+        }
+    }
+}
+
+/// The outcome of reading a file.
+pub struct Checked {
+    /// Rows ready to write.
+    pub items: Vec<ImportItem>,
+    /// Every refused row.
+    pub errors: Vec<RowError>,
+}
+
+fn err(line: u64, column: &str, message: impl Into<String>) -> RowError {
+    RowError {
+        line,
+        column: column.to_string(),
+        message: message.into(),
+    }
+}
+
+/// Reads and validates a whole CSV file for `project`. `taken` holds the
+/// codes already used in that project; codes repeated inside the file are
+/// refused too. `tick` is called once per row read.
+pub fn check(
+    data: &[u8],
+    project: &str,
+    taken: &HashSet<String>,
+    engine: &Engine,
+    tick: &dyn Fn(),
+) -> Result<Checked, RowError> {
+    if !valid_project_code(project) {
+        return Err(err(
+            0,
+            "",
+            format!(
+                "\"{project}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"
+            ),
+        ));
+    }
+    let mut rdr = csv::ReaderBuilder::new()
+        .has_headers(true)
+        .flexible(false)
+        .from_reader(data);
+    let headers = rdr
+        .headers()
+        .map_err(|e| err(1, "", format!("the header row cannot be read: {e}")))?
+        .clone();
+    let mut index = std::collections::HashMap::new();
+    for (i, h) in headers.iter().enumerate() {
+        let h = h.trim().trim_start_matches('\u{feff}');
+        if !COLUMNS.contains(&h) {
+            return Err(err(
+                1,
+                h,
+                format!(
+                    "unknown column; the columns are those of the CSV export: {}",
+                    COLUMNS.join(", ")
+                ),
+            ));
+        }
+        if index.insert(h.to_string(), i).is_some() {
+            return Err(err(1, h, "this column appears twice"));
+        }
+    }
+    if !index.contains_key("sample_code") {
+        return Err(err(1, "sample_code", "the file needs a sample_code column"));
+    }
+    let base = engine.base();
+    let mut seen: HashSet<String> = HashSet::new();
+    let mut ids: HashSet<String> = HashSet::new();
+    let mut out = Checked {
+        items: Vec::new(),
+        errors: Vec::new(),
+    };
+    for rec in rdr.records() {
+        tick();
+        let rec = match rec {
+            Ok(r) => r,
+            Err(e) => {
+                let line = e.position().map_or(0, |p| p.line());
+                out.errors
+                    .push(err(line, "", format!("not a well-formed CSV row: {e}")));
+                continue;
+            }
+        };
+        let line = rec.position().map_or(0, |p| p.line());
+        let cells = Cells {
+            rec: &rec,
+            index: &index,
+        };
+        match row(line, &cells, project, base, engine) {
+            Ok(item) => {
+                let code = item.sample.sample_code.clone();
+                if taken.contains(&code) {
+                    out.errors.push(err(
+                        line,
+                        "sample_code",
+                        format!("{code} is already used in project {project}"),
+                    ));
+                } else if !seen.insert(code.clone()) {
+                    out.errors.push(err(
+                        line,
+                        "sample_code",
+                        format!("{code} appears more than once in this file"),
+                    ));
+                } else if let Some(id) = &item.keep.id
+                    && !ids.insert(id.clone())
+                {
+                    out.errors.push(err(
+                        line,
+                        "id",
+                        format!("{id} appears more than once in this file"),
+                    ));
+                } else {
+                    out.items.push(item);
+                }
+            }
+            Err(e) => out.errors.push(e),
+        }
+    }
+    // Records that carry their creation time take their place in the log's
+    // creation order (the list is newest first by insertion), so an
+    // exported file imports in the order it was made. The export lists
+    // newest first, so rows with equal times go in reverse file order; rows
+    // without a time follow in file order (oldest first, as people write).
+    let mut indexed: Vec<(usize, ImportItem)> = out.items.into_iter().enumerate().collect();
+    indexed.sort_by(
+        |(i, a), (j, b)| match (&a.keep.created_at, &b.keep.created_at) {
+            (Some(x), Some(y)) => x.cmp(y).then(j.cmp(i)),
+            (Some(_), None) => std::cmp::Ordering::Less,
+            (None, Some(_)) => std::cmp::Ordering::Greater,
+            (None, None) => i.cmp(j),
+        },
+    );
+    out.items = indexed.into_iter().map(|(_, it)| it).collect();
+    Ok(out)
+}
+
+/// The cells of one row, by column name; blank cells read as absent.
+struct Cells<'a> {
+    rec: &'a csv::StringRecord,
+    index: &'a std::collections::HashMap<String, usize>,
+}
+
+impl<'a> Cells<'a> {
+    fn get(&self, column: &str) -> Option<&'a str> {
+        self.index
+            .get(column)
+            .and_then(|&i| self.rec.get(i))
+            .map(str::trim)
+            .filter(|v| !v.is_empty())
+    }
+}
+
+fn number(line: u64, column: &str, v: Option<&str>) -> Result<Option<f64>, RowError> {
+    v.map(|s| {
+        s.parse::<f64>()
+            .map_err(|_| err(line, column, format!("\"{s}\" is not a number")))
+    })
+    .transpose()
+}
+
+fn row(
+    line: u64,
+    cells: &Cells<'_>,
+    project: &str,
+    base: &crate::base::Base,
+    engine: &Engine,
+) -> Result<ImportItem, RowError> {
+    if let Some(p) = cells.get("project")
+        && p != project
+    {
+        return Err(err(
+            line,
+            "project",
+            format!("the row is for project {p}, but the import is into {project}"),
+        ));
+    }
+    let observations: Option<Observations> = match cells.get("observations") {
+        None => None,
+        Some(json) => Some(
+            object_from_json::<Observations>(json.as_bytes(), describe_observation_field)
+                .and_then(|o| {
+                    o.validate()
+                        .map(|()| o)
+                        .map_err(crate::engine::input::InputError::Invalid)
+                })
+                .map_err(|e| {
+                    let fe = e.field_error();
+                    let col = if fe.field.is_empty() {
+                        "observations".to_string()
+                    } else {
+                        format!("observations.{}", fe.field)
+                    };
+                    err(line, &col, fe.message.clone())
+                })?,
+        ),
+    };
+    let setting = match cells.get("setting") {
+        None => None,
+        Some(s) => Some(
+            <crate::base::vocab::Setting as crate::base::vocab::Vocab>::parse(s).ok_or_else(
+                || {
+                    err(
+                        line,
+                        "setting",
+                        format!(
+                            "\"{s}\" is not a setting; use one of {}",
+                            <crate::base::vocab::Setting as crate::base::vocab::Vocab>::allowed()
+                        ),
+                    )
+                },
+            )?,
+        ),
+    };
+    let input = SampleInput {
+        project: Some(project.to_string()),
+        sample_code: cells.get("sample_code").map(str::to_string),
+        collected_on: cells.get("collected_on").map(str::to_string),
+        collector: cells.get("collector").map(str::to_string),
+        station: cells.get("station").map(str::to_string),
+        latitude: number(line, "latitude", cells.get("latitude"))?,
+        longitude: number(line, "longitude", cells.get("longitude"))?,
+        coordinate_uncertainty_m: number(
+            line,
+            "coordinate_uncertainty_m",
+            cells.get("coordinate_uncertainty_m"),
+        )?,
+        setting,
+        lithology: cells.get("lithology").map(str::to_string),
+        observations,
+        field_id: cells.get("field_id").map(str::to_string),
+        notes: cells.get("notes").map(str::to_string),
+        ..Default::default()
+    };
+    let sample = input
+        .validate(|id| base.entry(id).is_some())
+        .map_err(|e| err(line, &e.field, e.message))?;
+    let identification: Identification = match cells.get("identification") {
+        Some(json) => serde_json::from_str(json).map_err(|e| {
+            err(
+                line,
+                "identification",
+                format!("not an identification as the export writes it: {e}"),
+            )
+        })?,
+        None => engine.identify(&sample.observations),
+    };
+    if let Some(bv) = cells.get("base_version")
+        && bv != identification.base_version
+    {
+        return Err(err(
+            line,
+            "base_version",
+            "differs from the base version inside the identification",
+        ));
+    }
+    let id = cells
+        .get("id")
+        .map(|s| {
+            uuid::Uuid::try_parse(s)
+                .map(|u| u.to_string())
+                .map_err(|_| err(line, "id", format!("\"{s}\" is not a UUID")))
+        })
+        .transpose()?;
+    let ts = |c: &str| -> Result<Option<String>, RowError> {
+        match cells.get(c) {
+            None => Ok(None),
+            Some(t)
+                if t.len() >= 20
+                    && crate::samples::valid_iso_date(&t[..10])
+                    && t.as_bytes()[10] == b'T'
+                    && t.ends_with('Z') =>
+            {
+                Ok(Some(t.to_string()))
+            }
+            Some(t) => Err(err(
+                line,
+                c,
+                format!("\"{t}\" is not an ISO 8601 UTC time such as 2026-07-14T09:30:00.000Z"),
+            )),
+        }
+    };
+    let revision = match cells.get("revision") {
+        None => None,
+        Some(r) => Some(r.parse::<i64>().ok().filter(|n| *n >= 1).ok_or_else(|| {
+            err(
+                line,
+                "revision",
+                format!("\"{r}\" is not a revision number"),
+            )
+        })?),
+    };
+    Ok(ImportItem {
+        sample,
+        identification,
+        keep: Kept {
+            revision,
+            id,
+            created_at: ts("created_at")?,
+            updated_at: ts("updated_at")?,
+        },
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn run(csv: &str) -> Checked {
+        check(
+            csv.as_bytes(),
+            "bv",
+            &HashSet::from(["TAKEN".to_string()]),
+            Engine::builtin(),
+            &|| {},
+        )
+        .expect("readable")
+    }
+
+    #[test]
+    fn every_bad_row_is_reported_with_its_line() {
+        let c = run("sample_code,latitude,longitude,collected_on,field_id\n\
+                     A1,45.1,7.2,2026-07-01,muscovite\n\
+                     A2,95,7.2,2026-07-01,\n\
+                     A3,,,2026-02-30,\n\
+                     TAKEN,,,,\n\
+                     A1,,,,\n\
+                     A6,,,,mica\n");
+        assert_eq!(c.items.len(), 1);
+        let lines: Vec<(u64, &str)> = c
+            .errors
+            .iter()
+            .map(|e| (e.line, e.column.as_str()))
+            .collect();
+        assert_eq!(
+            lines,
+            vec![
+                (3, "latitude"),
+                (4, "collected_on"),
+                (5, "sample_code"),
+                (6, "sample_code"),
+                (7, "field_id")
+            ]
+        );
+    }
+
+    #[test]
+    fn an_unknown_column_stops_the_import_before_any_row() {
+        let e = check(
+            b"sample_code,colour\nA1,green\n",
+            "bv",
+            &HashSet::new(),
+            Engine::builtin(),
+            &|| {},
+        )
+        .err()
+        .expect("refused");
+        assert_eq!((e.line, e.column.as_str()), (1, "colour"));
+    }
+
+    #[test]
+    fn observations_are_checked_like_the_api() {
+        let c = run("sample_code,observations\nB1,\"{\"\"cleavage\"\": \"\"perfect\"\"}\"\n");
+        assert_eq!(c.errors.len(), 1);
+        assert_eq!(c.errors[0].column, "observations.cleavage");
+    }
+
+    #[test]
+    fn a_row_for_another_project_is_refused() {
+        let c = run("project,sample_code\nother,C1\n");
+        assert_eq!(c.errors[0].column, "project");
+    }
+}
