@@ -82,7 +82,7 @@ struct Row {
     observations: String,
     field_id: Option<String>,
     notes: Option<String>,
-    identification: String,
+    identification: Vec<u8>,
     base_version: String,
 }
 
@@ -91,6 +91,28 @@ const COLUMNS: &str = "seq, id, project, sample_code, revision, created_at, upda
     observations, field_id, notes, identification, base_version";
 
 const NOW: &str = "strftime('%Y-%m-%dT%H:%M:%fZ', 'now')";
+
+/// Compresses a JSON document for a BLOB column (zlib, default level).
+fn pack(json: &str) -> Vec<u8> {
+    use std::io::Write;
+    let mut enc = flate2::write::ZlibEncoder::new(
+        Vec::with_capacity(json.len() / 4),
+        flate2::Compression::default(),
+    );
+    // Writing into a Vec cannot fail.
+    let _ = enc.write_all(json.as_bytes());
+    enc.finish().unwrap_or_default()
+}
+
+/// The JSON document of a BLOB column written by [`pack`].
+fn unpack(id: &str, what: &'static str, blob: &[u8]) -> Result<String, StoreError> {
+    use std::io::Read;
+    let mut out = String::with_capacity(blob.len() * 5);
+    flate2::read::ZlibDecoder::new(blob)
+        .read_to_string(&mut out)
+        .map_err(|e| corrupt(id, what, e))?;
+    Ok(out)
+}
 
 fn corrupt(id: &str, what: &'static str, e: impl std::fmt::Display) -> StoreError {
     StoreError::Corrupt {
@@ -111,8 +133,12 @@ impl Row {
         };
         let observations = serde_json::from_str(&self.observations)
             .map_err(|e| corrupt(&self.id, "sample observations", e))?;
-        let identification = serde_json::from_str(&self.identification)
-            .map_err(|e| corrupt(&self.id, "sample identification", e))?;
+        let identification = serde_json::from_str(&unpack(
+            &self.id,
+            "sample identification",
+            &self.identification,
+        )?)
+        .map_err(|e| corrupt(&self.id, "sample identification", e))?;
         Ok((
             self.seq,
             SampleRecord {
@@ -245,7 +271,7 @@ async fn append_revision(
     author: Option<&str>,
     action: Action,
 ) -> Result<(), StoreError> {
-    let json = serde_json::to_string(rec).map_err(|e| corrupt(&rec.id, "sample record", e))?;
+    let json = pack(&serde_json::to_string(rec).map_err(|e| corrupt(&rec.id, "sample record", e))?);
     sqlx::query(
         "INSERT INTO sample_revisions (sample_id, revision, recorded_at, author, action, record)
          VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
@@ -286,8 +312,10 @@ pub struct NewState<'a> {
     pub author: Option<&'a str>,
 }
 
-fn ident_json(id: &Identification) -> Result<String, StoreError> {
-    serde_json::to_string(id).map_err(|e| corrupt("", "identification", e))
+fn ident_json(id: &Identification) -> Result<Vec<u8>, StoreError> {
+    serde_json::to_string(id)
+        .map(|j| pack(&j))
+        .map_err(|e| corrupt("", "identification", e))
 }
 
 /// Creates a record (revision 1). `keep` carries an id and timestamps to
@@ -569,7 +597,7 @@ struct RevisionRow {
     recorded_at: String,
     author: Option<String>,
     action: String,
-    record: String,
+    record: Vec<u8>,
 }
 
 /// Every state of a record, oldest first (the current one last).
@@ -598,7 +626,7 @@ pub async fn revisions(pool: &SqlitePool, id: &str) -> Result<Vec<Revision>, Sto
                 recorded_at: r.recorded_at,
                 author: r.author,
                 action,
-                record: serde_json::from_str(&r.record)
+                record: serde_json::from_str(&unpack(id, "revision record", &r.record)?)
                     .map_err(|e| corrupt(id, "revision record", e))?,
             })
         })

@@ -142,7 +142,10 @@ impl Typed {
             latitude: num_text(r.latitude),
             longitude: num_text(r.longitude),
             coordinate_uncertainty_m: num_text(r.coordinate_uncertainty_m),
-            setting: r.setting.map(|x| x.as_str().to_string()).unwrap_or_default(),
+            setting: r
+                .setting
+                .map(|x| x.as_str().to_string())
+                .unwrap_or_default(),
             lithology: s(&r.lithology),
             field_id: s(&r.field_id),
             notes: s(&r.notes),
@@ -865,7 +868,9 @@ async fn new_form(
 
 fn taken_message(next: Option<&(String, String)>) -> String {
     match next {
-        Some((_, code)) => format!("that code is taken in this project; the next free one is {code}"),
+        Some((_, code)) => {
+            format!("that code is taken in this project; the next free one is {code}")
+        }
         None => "that code is taken in this project; choose another".to_string(),
     }
 }
@@ -1332,7 +1337,13 @@ async fn stale_page(
     })
 }
 
-async fn tombstone(st: &AppState, csrf: &CsrfToken, id: &str, body: &[u8], delete: bool) -> PageResult<Response> {
+async fn tombstone(
+    st: &AppState,
+    csrf: &CsrfToken,
+    id: &str,
+    body: &[u8],
+    delete: bool,
+) -> PageResult<Response> {
     let form = FormData::parse(body);
     csrf::verify(csrf, form.get(csrf::FIELD))?;
     if uuid::Uuid::try_parse(id).is_err() {
