@@ -281,7 +281,7 @@ fn project_options(projects: &[db::Project], current: &str) -> Vec<OptionView> {
         .iter()
         .map(|p| OptionView {
             value: p.code.clone(),
-            label: format!("{} ({})", p.name, p.code),
+            label: format!("{} — {}", p.code, p.name),
             selected: p.code == current,
         })
         .collect();
@@ -338,20 +338,24 @@ fn degrees(x: f64) -> String {
     format!("{x:.5}°").replace('-', "−")
 }
 
+/// A position for people: decimal degrees, DMS and the uncertainty.
+pub struct CoordsView {
+    /// `−41.50120°, −20.30210°`.
+    pub decimal: String,
+    /// `41°30′04.3″ S, 20°18′07.6″ W`.
+    pub dms: String,
+    /// `± 10 m`, when recorded.
+    pub uncertainty: Option<String>,
+}
+
 /// The coordinates in decimal degrees and in DMS, with the uncertainty.
-fn coordinates_text(lat: Option<f64>, lon: Option<f64>, unc: Option<f64>) -> Option<String> {
+fn coordinates(lat: Option<f64>, lon: Option<f64>, unc: Option<f64>) -> Option<CoordsView> {
     let (lat, lon) = (lat?, lon?);
-    let mut s = format!(
-        "{}, {} ({}, {})",
-        degrees(lat),
-        degrees(lon),
-        dms(lat, 'N', 'S'),
-        dms(lon, 'E', 'W')
-    );
-    if let Some(u) = unc {
-        s.push_str(&format!(" ± {u} m"));
-    }
-    Some(s)
+    Some(CoordsView {
+        decimal: format!("{}, {}", degrees(lat), degrees(lon)),
+        dms: format!("{}, {}", dms(lat, 'N', 'S'), dms(lon, 'E', 'W')),
+        uncertainty: unc.map(|u| format!("± {u} m")),
+    })
 }
 
 /// The observations in words, property by property.
@@ -1082,7 +1086,7 @@ pub struct RecordPage {
     /// Every field, labelled.
     pub rows: Vec<FieldRow>,
     /// Coordinates in decimal degrees and DMS with the uncertainty.
-    pub coordinates: Option<String>,
+    pub coordinates: Option<CoordsView>,
     /// Field identification: (entry id, name).
     pub field_id: Option<(String, String)>,
     /// The stored identification.
@@ -1117,7 +1121,7 @@ async fn record(
         project: rec.project.clone(),
         revision: rec.revision,
         rows: record_rows(&st, &rec),
-        coordinates: coordinates_text(rec.latitude, rec.longitude, rec.coordinate_uncertainty_m),
+        coordinates: coordinates(rec.latitude, rec.longitude, rec.coordinate_uncertainty_m),
         field_id: rec
             .field_id
             .as_deref()

@@ -6,5 +6,6 @@ mod helpers;
 mod identify;
 mod minerals;
 mod reference_pages;
+mod sample_pages;
 mod samples;
 mod service;

@@ -1,0 +1,687 @@
+//! The sample log's pages: new sample, record with history, edit with
+//! optimistic concurrency, tombstones, the filtered history with keyset
+//! pages, and saving an identification as a sample.
+//!
+//! The data is an invented scenario: collectors "Field crew A" and "Field
+//! crew B", stations "Ridge cut 3" and the like. Coordinates are arbitrary
+//! points in open ocean chosen for the test, not places anyone sampled.
+
+use axum::http::StatusCode;
+use serde_json::json;
+
+use crate::helpers::{Reply, Session, TestApp};
+
+/// Undoes askama's HTML escaping of attribute values and text.
+fn unescape(s: &str) -> String {
+    s.replace("&quot;", "\"")
+        .replace("&#34;", "\"")
+        .replace("&#x27;", "'")
+        .replace("&#39;", "'")
+        .replace("&lt;", "<")
+        .replace("&#60;", "<")
+        .replace("&gt;", ">")
+        .replace("&#62;", ">")
+        .replace("&amp;", "&")
+        .replace("&#38;", "&")
+}
+
+/// The `value` of the input named `name` (inputs write name before value).
+fn input_value(html: &str, name: &str) -> Option<String> {
+    let at = html.find(&format!("name=\"{name}\" value=\""))?;
+    let rest = &html[at + format!("name=\"{name}\" value=\"").len()..];
+    Some(unescape(&rest[..rest.find('"')?]))
+}
+
+/// The selected option of the select named `name`.
+fn selected(html: &str, name: &str) -> Option<String> {
+    let start = html.find(&format!("name=\"{name}\""))?;
+    let rest = &html[start..html[start..].find("</select>")? + start];
+    let opt = rest.find(" selected>")?;
+    let before = &rest[..opt];
+    let v = before.rfind("value=\"")? + "value=\"".len();
+    Some(unescape(&before[v..opt - 1]))
+}
+
+/// The sample id of a record page, read from the contract's marker on the
+/// page's `<main>` element.
+fn sample_id(html: &str) -> String {
+    let at = html
+        .find("<main id=\"main\" data-sample-id=\"")
+        .expect("a data-sample-id marker on <main>")
+        + "<main id=\"main\" data-sample-id=\"".len();
+    html[at..at + 36].to_string()
+}
+
+/// The first `data-entry-id` of a page (the leading candidate).
+fn first_entry(html: &str) -> String {
+    let at = html.find("data-entry-id=\"").expect("a candidate marker") + "data-entry-id=\"".len();
+    html[at..at + html[at..].find('"').expect("quote")].to_string()
+}
+
+fn encode(pairs: &[(&str, &str)]) -> String {
+    let mut s = form_urlencoded::Serializer::new(String::new());
+    for (k, v) in pairs {
+        s.append_pair(k, v);
+    }
+    s.finish()
+}
+
+/// Every field of the form for one invented sample.
+fn full_form(code: &str) -> Vec<(&'static str, String)> {
+    vec![
+        ("project", "default".into()),
+        ("sample_code", code.into()),
+        ("collected_on", "2026-06-09".into()),
+        ("collector", "Field crew A".into()),
+        ("station", "Ridge cut 3".into()),
+        ("latitude", "-41.5012".into()),
+        ("longitude", "-20.3021".into()),
+        ("coordinate_uncertainty_m", "10".into()),
+        ("setting", "greenschist".into()),
+        ("lithology", "chlorite schist".into()),
+        ("field_id", "chlorite".into()),
+        ("notes", "Green flakes along the foliation.".into()),
+        ("edited_by", "Field crew A".into()),
+    ]
+}
+
+fn form_body(fields: &[(&'static str, String)]) -> String {
+    let pairs: Vec<(&str, &str)> = fields.iter().map(|(k, v)| (*k, v.as_str())).collect();
+    encode(&pairs)
+}
+
+fn with(
+    fields: &[(&'static str, String)],
+    key: &'static str,
+    value: &str,
+) -> Vec<(&'static str, String)> {
+    let mut out: Vec<(&'static str, String)> =
+        fields.iter().filter(|(k, _)| *k != key).cloned().collect();
+    out.push((key, value.to_string()));
+    out
+}
+
+/// Opens the new-sample form (to get the cookie) and saves `fields`.
+async fn create(s: &mut Session<'_>, fields: &[(&'static str, String)]) -> Reply {
+    let r = s.get("/samples/new").await;
+    assert_eq!(r.status, StatusCode::OK);
+    s.submit("/samples", &form_body(fields)).await
+}
+
+/// Creates a sample through the form and returns its id.
+async fn created(s: &mut Session<'_>, code: &str) -> String {
+    let r = create(s, &full_form(code)).await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    r.location()
+        .strip_prefix("/samples/")
+        .expect("a record URL")
+        .to_string()
+}
+
+fn assert_no_script(html: &str) {
+    assert!(!html.to_lowercase().contains("<script"), "a script element");
+}
+
+#[tokio::test]
+async fn a_sample_saved_with_the_form_gets_a_record_page_with_dms() {
+    // Arrange
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let form = s.get("/samples/new").await;
+    assert_eq!(form.status, StatusCode::OK);
+    let html = form.text();
+    assert_no_script(&html);
+    // The default project's scheme is S-{seq:4} (migration 0003).
+    assert_eq!(input_value(&html, "sample_code").as_deref(), Some("S-0001"));
+    for name in [
+        "project",
+        "collected_on",
+        "latitude",
+        "longitude",
+        "coordinate_uncertainty_m",
+        "setting",
+        "lithology",
+        "field_id",
+        "notes",
+    ] {
+        assert!(
+            html.contains(&format!("for=\"f-{name}\"")),
+            "{name} has a label"
+        );
+    }
+    // Act
+    let r = s.submit("/samples", &form_body(&full_form("S-0001"))).await;
+    // Assert
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let loc = r.location();
+    let page = s.get(&loc).await;
+    assert_eq!(page.status, StatusCode::OK);
+    let html = page.text();
+    assert_no_script(&html);
+    assert_eq!(format!("/samples/{}", sample_id(&html)), loc);
+    // -41.5012° = 41° 30′ 04.32″ S; -20.3021° = 20° 18′ 07.56″ W (arithmetic).
+    assert!(html.contains("41°30′04.3″ S"), "{html}");
+    assert!(html.contains("20°18′07.6″ W"));
+    assert!(html.contains("± 10 m"));
+    assert!(html.contains("Ridge cut 3") && html.contains("Field crew A"));
+    assert!(html.contains("Revision 1"));
+    assert!(html.contains("action=\"/samples/") && html.contains("/delete\""));
+    // The API sees the same record.
+    let api = app.get(&format!("/api/v1{loc}")).await.json();
+    assert_eq!(api["sample_code"], "S-0001");
+    assert_eq!(api["latitude"], json!(-41.5012));
+    assert_eq!(api["field_id"], "chlorite");
+}
+
+#[tokio::test]
+async fn a_taken_code_is_refused_beside_the_field_with_the_next_free_one() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    created(&mut s, "S-0001").await;
+    let again = with(&full_form("S-0001"), "station", "Ridge cut 4");
+    let r = create(&mut s, &again).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let html = r.text();
+    assert!(
+        html.contains("that code is taken in this project"),
+        "{html}"
+    );
+    assert!(html.contains("the next free one is S-0002"));
+    assert_eq!(
+        input_value(&html, "station").as_deref(),
+        Some("Ridge cut 4")
+    );
+    assert_eq!(input_value(&html, "sample_code").as_deref(), Some("S-0001"));
+    // Nothing new was saved.
+    let list = app.get("/api/v1/samples").await.json();
+    assert_eq!(list["samples"].as_array().map(Vec::len), Some(1));
+}
+
+#[tokio::test]
+async fn the_suggestion_follows_the_projects_scheme() {
+    let app = TestApp::new().await;
+    let pool = app.pool().await;
+    assert!(
+        basal::store::samples::create_project(&pool, "rc", "Ridge cuts (invented)", "RC-{seq:3}")
+            .await
+            .expect("project")
+    );
+    for code in ["RC-001", "RC-007", "RC-x"] {
+        let r = app
+            .post_json(
+                "/api/v1/samples",
+                &json!({"project": "rc", "sample_code": code}).to_string(),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED);
+    }
+    let mut s = Session::new(&app);
+    let html = s.get("/samples/new?project=rc").await.text();
+    assert_eq!(input_value(&html, "sample_code").as_deref(), Some("RC-008"));
+    assert_eq!(selected(&html, "project").as_deref(), Some("rc"));
+    // The "suggest" button re-renders for the chosen project, saving nothing.
+    let r = s
+        .submit(
+            "/samples",
+            &encode(&[
+                ("project", "rc"),
+                ("sample_code", ""),
+                ("station", "Ridge cut 3"),
+                ("then", "suggest"),
+            ]),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK);
+    let html = r.text();
+    assert_eq!(input_value(&html, "sample_code").as_deref(), Some("RC-008"));
+    assert_eq!(
+        input_value(&html, "station").as_deref(),
+        Some("Ridge cut 3")
+    );
+}
+
+#[tokio::test]
+async fn bad_values_are_refused_beside_their_fields_and_kept() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    // (field, typed value, words the message must contain)
+    let cases = [
+        ("latitude", "95", "latitude must be decimal degrees"),
+        ("latitude", "north", "is not a number"),
+        ("collected_on", "2026-02-30", "is not a calendar date"),
+        ("collected_on", "09/06/2026", "YYYY-MM-DD"),
+        ("coordinate_uncertainty_m", "-3", "greater than 0"),
+        ("sample_code", "", "a sample code is required"),
+        ("setting", "volcano", "is not a setting"),
+        ("field_id", "mica", "is not an entry of the property base"),
+    ];
+    for (field, value, words) in cases {
+        let fields = with(&full_form("S-0009"), field, value);
+        let r = create(&mut s, &fields).await;
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field}={value}"
+        );
+        let html = r.text();
+        let err = html
+            .find(&format!("id=\"e-{field}\""))
+            .unwrap_or_else(|| panic!("{field}={value}: no message beside the field"));
+        assert!(
+            html[err..].contains(words),
+            "{field}={value}: {}",
+            &html[err..err + 300]
+        );
+        if matches!(
+            field,
+            "latitude" | "collected_on" | "coordinate_uncertainty_m"
+        ) {
+            assert_eq!(
+                input_value(&html, field).as_deref(),
+                Some(value),
+                "{field} kept"
+            );
+        }
+        assert_eq!(
+            input_value(&html, "station").as_deref(),
+            Some("Ridge cut 3")
+        );
+    }
+    let list = app.get("/api/v1/samples").await.json();
+    assert_eq!(
+        list["samples"].as_array().map(Vec::len),
+        Some(0),
+        "nothing saved"
+    );
+}
+
+#[tokio::test]
+async fn an_edit_makes_revision_two_and_the_history_shows_the_difference() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let id = created(&mut s, "S-0001").await;
+    let edit = s.get(&format!("/samples/{id}/edit")).await;
+    assert_eq!(edit.status, StatusCode::OK);
+    let html = edit.text();
+    assert_eq!(input_value(&html, "revision").as_deref(), Some("1"));
+    assert_eq!(input_value(&html, "latitude").as_deref(), Some("-41.5012"));
+    assert_eq!(selected(&html, "field_id").as_deref(), Some("chlorite"));
+    let mut fields = with(
+        &full_form("S-0001"),
+        "notes",
+        "Green flakes; chlorite, checked at camp.",
+    );
+    fields = with(&fields, "edited_by", "Field crew B");
+    fields.push(("revision", "1".into()));
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&fields))
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    assert_eq!(r.location(), format!("/samples/{id}"));
+    let html = s.get(&format!("/samples/{id}")).await.text();
+    assert!(html.contains("Revision 2"), "{html}");
+    assert!(html.contains("by Field crew B"));
+    let hist = &html[html.find("id=\"hist-h\"").expect("history")..];
+    assert!(
+        hist.contains("Green flakes along the foliation."),
+        "the old notes"
+    );
+    assert!(
+        hist.contains("Green flakes; chlorite, checked at camp."),
+        "the new notes"
+    );
+    assert!(hist.contains("created"));
+}
+
+#[tokio::test]
+async fn a_stale_edit_shows_both_versions_and_overwrites_nothing() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let id = created(&mut s, "S-0001").await;
+    // Theirs: saved first, from revision 1.
+    let mut theirs = with(&full_form("S-0001"), "notes", "Theirs: foliation measured.");
+    theirs.push(("revision", "1".into()));
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&theirs))
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER);
+    // Yours: also from revision 1, saved second.
+    let mut yours = with(&full_form("S-0001"), "notes", "Yours: sample bagged twice.");
+    yours.push(("revision", "1".into()));
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&yours))
+        .await;
+    assert_eq!(r.status, StatusCode::CONFLICT);
+    let html = r.text();
+    assert_no_script(&html);
+    assert!(html.contains("Theirs: foliation measured."));
+    assert!(html.contains("Yours: sample bagged twice."));
+    assert!(html.contains("Nothing was overwritten"));
+    assert_eq!(
+        input_value(&html, "revision").as_deref(),
+        Some("2"),
+        "re-apply on top of theirs"
+    );
+    let api = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    assert_eq!(api["revision"], 2);
+    assert_eq!(api["notes"], "Theirs: foliation measured.");
+    // Re-applying mine on top of revision 2 works.
+    let mut again = with(&full_form("S-0001"), "notes", "Yours: sample bagged twice.");
+    again.push(("revision", "2".into()));
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&again))
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER);
+    let api = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    assert_eq!(api["revision"], 3);
+    assert_eq!(api["notes"], "Yours: sample bagged twice.");
+}
+
+#[tokio::test]
+async fn delete_shows_a_tombstone_with_restore_and_restore_brings_it_back() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let id = created(&mut s, "S-0001").await;
+    let r = s.submit(&format!("/samples/{id}/delete"), "").await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER);
+    assert_eq!(r.location(), format!("/samples/{id}"));
+    let html = s.get(&format!("/samples/{id}")).await.text();
+    assert!(html.contains("Deleted on"), "{html}");
+    assert!(html.contains(&format!("action=\"/samples/{id}/restore\"")));
+    assert!(!html.contains(&format!("href=\"/samples/{id}/edit\"")));
+    assert!(html.contains("deleted"), "the history says so");
+    assert!(
+        !s.get("/samples").await.text().contains(&id),
+        "not in the log"
+    );
+    // Editing a tombstone is refused without a 500.
+    assert_eq!(
+        s.get(&format!("/samples/{id}/edit")).await.status,
+        StatusCode::CONFLICT
+    );
+    let r = s.submit(&format!("/samples/{id}/restore"), "").await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER);
+    let html = s.get(&format!("/samples/{id}")).await.text();
+    assert!(!html.contains("Deleted on"));
+    assert!(html.contains("Revision 3"));
+    assert!(
+        s.get("/samples").await.text().contains(&id),
+        "back in the log"
+    );
+}
+
+/// Creates invented samples through the API (faster than the form).
+async fn seed(app: &TestApp) {
+    let pool = app.pool().await;
+    basal::store::samples::create_project(&pool, "rc", "Ridge cuts (invented)", "RC-{seq:3}")
+        .await
+        .expect("project");
+    for i in 1..=7 {
+        let (project, notes) = if i % 2 == 0 {
+            ("rc", "talc schist, soapy")
+        } else {
+            ("default", "biotite granite")
+        };
+        let body = json!({
+            "project": project,
+            "sample_code": format!("H-{i:03}"),
+            "collected_on": format!("2026-06-{:02}", i),
+            "collector": "Field crew A",
+            "station": format!("Ridge cut {i}"),
+            "notes": notes,
+        });
+        let r = app.post_json("/api/v1/samples", &body.to_string()).await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.text());
+    }
+}
+
+/// The sample codes listed on a history page, in order.
+fn codes(html: &str) -> Vec<String> {
+    html.match_indices("data-sample-row=\"")
+        .map(|(i, _)| {
+            let rest = &html[i..];
+            let a = rest.find("\">H-").expect("a code link") + 2;
+            rest[a..a + 5].to_string()
+        })
+        .collect()
+}
+
+fn next_link(html: &str) -> Option<String> {
+    let at = html.find("rel=\"next\"")?;
+    let before = &html[..at];
+    let h = before.rfind("href=\"")? + "href=\"".len();
+    Some(unescape(&before[h..before[h..].find('"')? + h]))
+}
+
+#[tokio::test]
+async fn the_history_filters_and_its_pages_cover_every_row_once() {
+    let app = TestApp::new().await;
+    seed(&app).await;
+    let mut s = Session::new(&app);
+    // Everything, newest first.
+    let html = s.get("/samples").await.text();
+    assert_no_script(&html);
+    assert_eq!(
+        codes(&html),
+        [
+            "H-007", "H-006", "H-005", "H-004", "H-003", "H-002", "H-001"
+        ]
+    );
+    assert!(html.contains("href=\"/export/samples.csv\""));
+    // Filters (table-driven): query, expected codes.
+    let cases: [(&str, &[&str]); 5] = [
+        ("project=rc", &["H-006", "H-004", "H-002"]),
+        ("q=talc", &["H-006", "H-004", "H-002"]),
+        (
+            "from=2026-06-03&to=2026-06-05",
+            &["H-005", "H-004", "H-003"],
+        ),
+        ("project=default&from=2026-06-04", &["H-007", "H-005"]),
+        (
+            "field_id=none&collector=Field+crew+A&q=granite",
+            &["H-007", "H-005", "H-003", "H-001"],
+        ),
+    ];
+    for (q, want) in cases {
+        let r = s.get(&format!("/samples?{q}")).await;
+        assert_eq!(r.status, StatusCode::OK, "{q}");
+        let html = r.text();
+        assert_eq!(codes(&html), want, "{q}");
+        assert!(
+            html.contains("/export/samples.csv?"),
+            "{q}: a filtered export link"
+        );
+    }
+    let html = s.get("/samples?project=rc&q=talc").await.text();
+    let csv = html
+        .find("href=\"/export/samples.csv?")
+        .expect("an export link")
+        + 6;
+    let href = unescape(&html[csv..csv + html[csv..].find('"').expect("quote")]);
+    assert_eq!(href, "/export/samples.csv?project=rc&q=talc");
+    assert_eq!(selected(&html, "project").as_deref(), Some("rc"));
+    assert_eq!(input_value(&html, "q").as_deref(), Some("talc"));
+    // Keyset pages of 3: every row once, in order, then no next link.
+    let mut seen = Vec::new();
+    let mut url = "/samples?limit=3".to_string();
+    let mut pages = 0;
+    loop {
+        let html = s.get(&url).await.text();
+        seen.extend(codes(&html));
+        pages += 1;
+        match next_link(&html) {
+            Some(n) => {
+                assert!(n.contains("cursor="), "{n}");
+                url = n;
+            }
+            None => break,
+        }
+    }
+    assert_eq!(pages, 3);
+    assert_eq!(
+        seen,
+        [
+            "H-007", "H-006", "H-005", "H-004", "H-003", "H-002", "H-001"
+        ]
+    );
+}
+
+#[tokio::test]
+async fn a_bad_filter_is_a_422_page_with_the_message_beside_the_field() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let cases = [
+        ("from=2026-13-01&q=ridge", "from", "is not a date"),
+        ("to=yesterday", "to", "is not a date"),
+        (
+            "from=2026-06-05&to=2026-06-01",
+            "to",
+            "before the start date",
+        ),
+        ("setting=volcano", "setting", "is not a setting"),
+    ];
+    for (q, field, words) in cases {
+        let r = s.get(&format!("/samples?{q}")).await;
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{q}");
+        let html = r.text();
+        let at = html
+            .find(&format!("id=\"e-{field}\""))
+            .unwrap_or_else(|| panic!("{q}: no message"));
+        assert!(html[at..].contains(words), "{q}");
+    }
+    let html = s.get("/samples?from=2026-13-01&q=ridge").await.text();
+    assert_eq!(
+        input_value(&html, "from").as_deref(),
+        Some("2026-13-01"),
+        "typed value kept"
+    );
+    assert_eq!(input_value(&html, "q").as_deref(), Some("ridge"));
+    // Unknown parameters and bad cursors are named too, never a 500.
+    for q in ["colour=green", "cursor=abc", "limit=0"] {
+        let r = s.get(&format!("/samples?{q}")).await;
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{q}");
+        assert!(r.text().contains("class=\"form-error\""), "{q}");
+    }
+}
+
+#[tokio::test]
+async fn forged_posts_are_refused_and_change_nothing() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    let id = created(&mut s, "S-0001").await;
+    for (uri, body) in [
+        ("/samples".to_string(), form_body(&full_form("S-0002"))),
+        (format!("/samples/{id}/delete"), String::new()),
+        (
+            format!("/samples/{id}/edit"),
+            form_body(&with(&full_form("S-0001"), "revision", "1")),
+        ),
+    ] {
+        let r = s.post_form(&uri, &body).await;
+        assert_eq!(r.status, StatusCode::FORBIDDEN, "{uri}");
+        let r = s
+            .post_form(
+                &uri,
+                &format!("_csrf=0123456789abcdef0123456789abcdef&{body}"),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::FORBIDDEN, "{uri}: a wrong token");
+    }
+    let api = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    assert_eq!(api["revision"], 1);
+    assert_eq!(
+        app.get("/api/v1/samples").await.json()["samples"]
+            .as_array()
+            .map(Vec::len),
+        Some(1)
+    );
+}
+
+#[tokio::test]
+async fn unknown_samples_and_drafts_are_404_pages() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    for uri in [
+        "/samples/00000000-0000-4000-8000-000000000000",
+        "/samples/not-a-uuid",
+        "/samples/00000000-0000-4000-8000-000000000000/edit",
+        "/samples/new?draft=00000000-0000-4000-8000-000000000000",
+        "/samples/new?draft=nonsense",
+    ] {
+        let r = s.get(uri).await;
+        assert_eq!(r.status, StatusCode::NOT_FOUND, "{uri}");
+        assert!(r.text().contains("<h1>Not found</h1>"), "{uri}");
+    }
+    let r = s.get("/samples/new").await;
+    assert_eq!(r.status, StatusCode::OK);
+    let r = s
+        .submit("/samples/00000000-0000-4000-8000-000000000000/delete", "")
+        .await;
+    assert_eq!(r.status, StatusCode::NOT_FOUND);
+}
+
+#[tokio::test]
+async fn saving_from_the_results_carries_the_observations_and_the_leader() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    // An identification in the flow (typical chlorite answers, from memory).
+    let start = s.get("/identify").await.text();
+    let at = start.find("action=\"/identify/").expect("a draft form") + "action=\"/identify/".len();
+    let draft = start[at..at + 36].to_string();
+    let url = format!("/identify/{draft}");
+    for fields in [
+        "question=setting&setting=greenschist",
+        "question=cleavage&cleavage=one_perfect",
+        "question=tenacity&tenacity=flexible",
+        "question=colour&colour=green",
+    ] {
+        assert_eq!(s.submit(&url, fields).await.status, StatusCode::SEE_OTHER);
+    }
+    let results = s.get(&format!("{url}/results")).await.text();
+    let leader = first_entry(&results);
+    let link = format!("href=\"/samples/new?draft={draft}\"");
+    assert!(results.contains(&link), "a Save as a sample link");
+    // The new-sample form carries the observations and preselects the leader.
+    let form = s.get(&format!("/samples/new?draft={draft}")).await;
+    assert_eq!(form.status, StatusCode::OK);
+    let html = form.text();
+    assert_eq!(
+        selected(&html, "field_id").as_deref(),
+        Some(leader.as_str())
+    );
+    assert_eq!(selected(&html, "setting").as_deref(), Some("greenschist"));
+    let obs = input_value(&html, "observations").expect("hidden observations");
+    let parsed: serde_json::Value = serde_json::from_str(&obs).expect("JSON");
+    assert_eq!(parsed["tenacity"], "flexible");
+    let code = input_value(&html, "sample_code").expect("a suggested code");
+    let r = s
+        .submit(
+            "/samples",
+            &encode(&[
+                ("project", "default"),
+                ("sample_code", &code),
+                ("field_id", &leader),
+                ("setting", "greenschist"),
+                ("station", "Ridge cut 3"),
+                ("observations", &obs),
+            ]),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let record = s.get(&r.location()).await.text();
+    assert_eq!(
+        first_entry(&record),
+        leader,
+        "the stored leader is the draft's"
+    );
+    assert!(
+        record.contains("flexible (stays bent)"),
+        "observations in words"
+    );
+    let api = app
+        .get(&format!("/api/v1/samples/{}", sample_id(&record)))
+        .await
+        .json();
+    assert_eq!(api["observations"]["tenacity"], "flexible");
+    assert_eq!(api["identification"]["candidates"][0]["id"], json!(leader));
+}
