@@ -25,14 +25,38 @@ use tower::ServiceExt;
 const BATCH: usize = 10_000;
 
 /// Invented specimen templates (observations), cycled through.
-fn templates(engine: &Engine) -> Vec<(basal::engine::Observations, basal::engine::Identification, &'static str)> {
+fn templates(
+    engine: &Engine,
+) -> Vec<(
+    basal::engine::Observations,
+    basal::engine::Identification,
+    &'static str,
+)> {
     let raw = [
-        (r#"{"cleavage":"one_perfect","tenacity":"elastic","colour":["colourless"],"setting":"pegmatite"}"#, "muscovite"),
-        (r#"{"cleavage":"one_perfect","tenacity":"elastic","colour":["black"],"setting":"granite"}"#, "biotite"),
-        (r#"{"cleavage":"one_perfect","tenacity":"flexible","colour":["green"],"streak":"greenish","setting":"greenschist"}"#, "chlorite"),
-        (r#"{"feel":"soapy","scratch":{"fingernail":true},"setting":"ultramafic"}"#, "talc"),
-        (r#"{"habit":"earthy","wet_behaviour":"plastic","colour":["white"],"setting":"weathering_profile"}"#, "kaolinite"),
-        (r#"{"luster":"metallic","streak":"red_brown","specific_gravity":5.2}"#, "hematite"),
+        (
+            r#"{"cleavage":"one_perfect","tenacity":"elastic","colour":["colourless"],"setting":"pegmatite"}"#,
+            "muscovite",
+        ),
+        (
+            r#"{"cleavage":"one_perfect","tenacity":"elastic","colour":["black"],"setting":"granite"}"#,
+            "biotite",
+        ),
+        (
+            r#"{"cleavage":"one_perfect","tenacity":"flexible","colour":["green"],"streak":"greenish","setting":"greenschist"}"#,
+            "chlorite",
+        ),
+        (
+            r#"{"feel":"soapy","scratch":{"fingernail":true},"setting":"ultramafic"}"#,
+            "talc",
+        ),
+        (
+            r#"{"habit":"earthy","wet_behaviour":"plastic","colour":["white"],"setting":"weathering_profile"}"#,
+            "kaolinite",
+        ),
+        (
+            r#"{"luster":"metallic","streak":"red_brown","specific_gravity":5.2}"#,
+            "hematite",
+        ),
     ];
     raw.iter()
         .map(|(json, id)| {
@@ -43,8 +67,24 @@ fn templates(engine: &Engine) -> Vec<(basal::engine::Observations, basal::engine
         .collect()
 }
 
-const SETTINGS: [&str; 6] = ["pegmatite", "granite", "greenschist", "ultramafic", "weathering_profile", "hydrothermal_vein"];
-const WORDS: [&str; 8] = ["foliated", "schist", "vein", "saprolite", "gneiss", "phyllite", "quartzite", "marble"];
+const SETTINGS: [&str; 6] = [
+    "pegmatite",
+    "granite",
+    "greenschist",
+    "ultramafic",
+    "weathering_profile",
+    "hydrothermal_vein",
+];
+const WORDS: [&str; 8] = [
+    "foliated",
+    "schist",
+    "vein",
+    "saprolite",
+    "gneiss",
+    "phyllite",
+    "quartzite",
+    "marble",
+];
 
 async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) {
     let t = templates(engine);
@@ -55,9 +95,18 @@ async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) 
             .map(|n| {
                 let (obs, ident, id) = &t[n % t.len()];
                 let input = SampleInput {
-                    project: Some(if n % 10 == 0 { "default".into() } else { "bench".into() }),
+                    project: Some(if n % 10 == 0 {
+                        "default".into()
+                    } else {
+                        "bench".into()
+                    }),
                     sample_code: Some(format!("B-{n:07}")),
-                    collected_on: Some(format!("20{:02}-{:02}-{:02}", 20 + n % 7, 1 + n % 12, 1 + n % 28)),
+                    collected_on: Some(format!(
+                        "20{:02}-{:02}-{:02}",
+                        20 + n % 7,
+                        1 + n % 12,
+                        1 + n % 28
+                    )),
                     collector: Some(format!("Crew {}", (b'A' + (n % 5) as u8) as char)),
                     station: Some(format!("Station {}", n % 997)),
                     latitude: Some(-41.0 - (n % 1000) as f64 / 1000.0),
@@ -66,7 +115,11 @@ async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) 
                     lithology: Some(format!("{} {}", WORDS[n % 8], WORDS[(n / 8) % 8])),
                     observations: Some(obs.clone()),
                     field_id: Some((*id).into()),
-                    notes: Some(format!("bench record {n}, {} with {}", WORDS[(n / 3) % 8], WORDS[(n / 5) % 8])),
+                    notes: Some(format!(
+                        "bench record {n}, {} with {}",
+                        WORDS[(n / 3) % 8],
+                        WORDS[(n / 5) % 8]
+                    )),
                     ..Default::default()
                 };
                 ImportItem {
@@ -76,7 +129,9 @@ async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) 
                 }
             })
             .collect();
-        import_all(pool, &items, Some("bench"), &|_| {}).await.expect("fill");
+        import_all(pool, &items, Some("bench"), &|_| {})
+            .await
+            .expect("fill");
         i = end;
     }
 }
@@ -89,7 +144,11 @@ async fn time_requests(app: &axum::Router, uri: &str, n: usize) -> (Duration, Du
     let mut times = Vec::with_capacity(n);
     for _ in 0..n {
         let t = Instant::now();
-        let resp = app.clone().oneshot(Request::get(uri).body(Body::empty()).expect("req")).await.expect("resp");
+        let resp = app
+            .clone()
+            .oneshot(Request::get(uri).body(Body::empty()).expect("req"))
+            .await
+            .expect("resp");
         assert!(resp.status().is_success(), "{uri}: {}", resp.status());
         let _ = resp.into_body().collect().await.expect("body");
         times.push(t.elapsed());
@@ -109,23 +168,46 @@ async fn main() {
     let dir = tempfile::tempdir().expect("tempdir");
     let path = dir.path().join("scale.sqlite");
     let pool = basal::store::open(&path).await.expect("open");
-    basal::store::samples::create_project(&pool, "bench", "Bench (invented)", "B-{seq:7}").await.expect("project");
+    basal::store::samples::create_project(&pool, "bench", "Bench (invented)", "B-{seq:7}")
+        .await
+        .expect("project");
     let state = basal::web::AppState {
         db: pool.clone(),
         engine,
-        config: Arc::new(basal::cli::Config { listen: "127.0.0.1:0".parse().expect("addr"), db: path.clone() }),
+        config: Arc::new(basal::cli::Config {
+            listen: "127.0.0.1:0".parse().expect("addr"),
+            db: path.clone(),
+        }),
     };
     let app = basal::web::app(state);
     let queries = [
         ("list, no filter", "/api/v1/samples?limit=50"),
         ("list, project", "/api/v1/samples?project=bench&limit=50"),
-        ("list, field_id", "/api/v1/samples?field_id=chlorite&limit=50"),
-        ("list, collector+setting", "/api/v1/samples?collector=Crew%20C&setting=greenschist&limit=50"),
-        ("list, date range", "/api/v1/samples?from=2023-03-01&to=2023-06-30&limit=50"),
-        ("list, free text", "/api/v1/samples?q=phyllite%20vein&limit=50"),
-        ("list, deep cursor", "/api/v1/samples?limit=50&cursor=CURSOR"),
+        (
+            "list, field_id",
+            "/api/v1/samples?field_id=chlorite&limit=50",
+        ),
+        (
+            "list, collector+setting",
+            "/api/v1/samples?collector=Crew%20C&setting=greenschist&limit=50",
+        ),
+        (
+            "list, date range",
+            "/api/v1/samples?from=2023-03-01&to=2023-06-30&limit=50",
+        ),
+        (
+            "list, free text",
+            "/api/v1/samples?q=phyllite%20vein&limit=50",
+        ),
+        (
+            "list, deep cursor",
+            "/api/v1/samples?limit=50&cursor=CURSOR",
+        ),
         ("history page", "/samples"),
-        ("history page, filters", "/samples?project=bench&field_id=biotite&q=schist"),
+        (
+            "history page, filters",
+            "/samples?project=bench&field_id=biotite&q=schist",
+        ),
     ];
     let mut filled = 0;
     println!("| samples | query | p50 | p99 |");
@@ -138,27 +220,47 @@ async fn main() {
         for (name, uri) in queries {
             let uri = uri.replace("CURSOR", &(n / 2).to_string());
             let (p50, p99) = time_requests(&app, &uri, 200).await;
-            println!("| {n} | {name} | {:.2} ms | {:.2} ms |", p50.as_secs_f64() * 1e3, p99.as_secs_f64() * 1e3);
+            println!(
+                "| {n} | {name} | {:.2} ms | {:.2} ms |",
+                p50.as_secs_f64() * 1e3,
+                p99.as_secs_f64() * 1e3
+            );
         }
         let size = std::fs::metadata(&path).map(|m| m.len()).unwrap_or(0);
-        eprintln!("built {n} samples in {:.1} s; database {:.0} MB", build.as_secs_f64(), size as f64 / 1e6);
+        eprintln!(
+            "built {n} samples in {:.1} s; database {:.0} MB",
+            build.as_secs_f64(),
+            size as f64 / 1e6
+        );
     }
 
     // Import rate: a 100 k-row CSV of the export's columns.
     let rows = 100_000usize.min(filled);
-    let bench_only = basal::store::samples::Filter { project: Some("bench".into()), ..Default::default() };
-    let page = basal::store::samples::list(&pool, &bench_only, rows as i64, None).await.expect("rows");
+    let bench_only = basal::store::samples::Filter {
+        project: Some("bench".into()),
+        ..Default::default()
+    };
+    let page = basal::store::samples::list(&pool, &bench_only, rows as i64, None)
+        .await
+        .expect("rows");
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(basal::web::samples_api::CSV_COLUMNS).expect("header");
+    w.write_record(basal::web::samples_api::CSV_COLUMNS)
+        .expect("header");
     for r in &page.samples {
-        w.write_record(basal::web::samples_api::csv_row(r)).expect("row");
+        w.write_record(basal::web::samples_api::csv_row(r))
+            .expect("row");
     }
     let csv_path = dir.path().join("rows.csv");
     std::fs::write(&csv_path, w.into_inner().expect("csv")).expect("write csv");
     let fresh = dir.path().join("import.sqlite");
-    let config = basal::cli::Config { listen: "127.0.0.1:0".parse().expect("addr"), db: fresh };
+    let config = basal::cli::Config {
+        listen: "127.0.0.1:0".parse().expect("addr"),
+        db: fresh,
+    };
     let t = Instant::now();
-    let report = basal::cli::import(&config, &csv_path, "bench", false, None).await.expect("import");
+    let report = basal::cli::import(&config, &csv_path, "bench", false, None)
+        .await
+        .expect("import");
     let ours = t.elapsed();
     assert!(report.errors.is_empty(), "{:?}", report.errors.first());
     assert_eq!(report.written, page.samples.len());
@@ -174,10 +276,20 @@ async fn main() {
     let theirs = t.elapsed();
     match status {
         Ok(s) if s.success() => {
-            let (a, b) = (rows as f64 / ours.as_secs_f64(), rows as f64 / theirs.as_secs_f64());
-            println!("\nimport of {rows} rows: basal {a:.0} rows/s ({:.1} s); sqlite3 .import {b:.0} rows/s ({:.1} s); ratio {:.2}",
-                ours.as_secs_f64(), theirs.as_secs_f64(), a / b);
+            let (a, b) = (
+                rows as f64 / ours.as_secs_f64(),
+                rows as f64 / theirs.as_secs_f64(),
+            );
+            println!(
+                "\nimport of {rows} rows: basal {a:.0} rows/s ({:.1} s); sqlite3 .import {b:.0} rows/s ({:.1} s); ratio {:.2}",
+                ours.as_secs_f64(),
+                theirs.as_secs_f64(),
+                a / b
+            );
         }
-        _ => println!("\nimport of {rows} rows: basal {:.0} rows/s; sqlite3 shell not available for comparison", rows as f64 / ours.as_secs_f64()),
+        _ => println!(
+            "\nimport of {rows} rows: basal {:.0} rows/s; sqlite3 shell not available for comparison",
+            rows as f64 / ours.as_secs_f64()
+        ),
     }
 }

@@ -14,31 +14,9 @@ use crate::engine::{Engine, Identification, Observations};
 use crate::samples::{SampleInput, valid_project_code};
 use crate::store::samples::{ImportItem, Kept};
 
-/// Columns read from the file (the export's names); the export's two
-/// convenience columns are accepted and ignored.
-pub const COLUMNS: &[&str] = &[
-    "id",
-    "project",
-    "sample_code",
-    "collected_on",
-    "collector",
-    "station",
-    "latitude",
-    "longitude",
-    "coordinate_uncertainty_m",
-    "setting",
-    "lithology",
-    "field_id",
-    "notes",
-    "observations",
-    "created_at",
-    "updated_at",
-    "revision",
-    "base_version",
-    "identification",
-    "top_candidate",
-    "top_probability",
-];
+/// Columns read from the file: the export's (its two convenience columns,
+/// the top candidate, are accepted and ignored).
+pub use crate::samples::CSV_COLUMNS as COLUMNS;
 
 /// One refused row.
 #[derive(Clone, Debug, PartialEq, Eq)]

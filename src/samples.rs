@@ -20,6 +20,32 @@ pub const MAX_SAMPLE_CODE: usize = 64;
 /// circumference is already no location at all).
 pub const MAX_UNCERTAINTY_M: f64 = 20_000_000.0;
 
+/// The CSV columns: the contract's field names, then two conveniences for
+/// spreadsheets (the top candidate of the stored identification).
+pub const CSV_COLUMNS: &[&str] = &[
+    "id",
+    "project",
+    "sample_code",
+    "collected_on",
+    "collector",
+    "station",
+    "latitude",
+    "longitude",
+    "coordinate_uncertainty_m",
+    "setting",
+    "lithology",
+    "field_id",
+    "notes",
+    "observations",
+    "created_at",
+    "updated_at",
+    "revision",
+    "base_version",
+    "identification",
+    "top_candidate",
+    "top_probability",
+];
+
 /// A sample record as a client sends it (create or whole-record update).
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]

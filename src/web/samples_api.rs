@@ -371,31 +371,8 @@ async fn list(State(st): State<AppState>, RawQuery(raw): RawQuery) -> Result<imp
     Ok(Json(page))
 }
 
-/// The CSV columns: the contract's field names, then two conveniences for
-/// spreadsheets (the top candidate of the stored identification).
-pub const CSV_COLUMNS: &[&str] = &[
-    "id",
-    "project",
-    "sample_code",
-    "collected_on",
-    "collector",
-    "station",
-    "latitude",
-    "longitude",
-    "coordinate_uncertainty_m",
-    "setting",
-    "lithology",
-    "field_id",
-    "notes",
-    "observations",
-    "created_at",
-    "updated_at",
-    "revision",
-    "base_version",
-    "identification",
-    "top_candidate",
-    "top_probability",
-];
+/// The CSV columns (one list for the export and the import).
+pub use crate::samples::CSV_COLUMNS;
 
 fn opt_num(x: Option<f64>) -> String {
     x.map(|v| v.to_string()).unwrap_or_default()
