@@ -697,16 +697,19 @@ fn push_filters(qb: &mut QueryBuilder<Sqlite>, f: &Filter) {
     if let Some(s) = f.setting {
         qb.push(" AND setting = ").push_bind(s.to_string());
     }
+    // `+collected_on` keeps the planner off the date index: walking the
+    // log newest first and stopping after a page is cheaper for the broad
+    // ranges a crew asks for (a field season) than collecting and sorting
+    // every sample of the range on every page.
     if let Some(d) = &f.from {
-        qb.push(" AND collected_on >= ").push_bind(d.clone());
+        qb.push(" AND +collected_on >= ").push_bind(d.clone());
     }
     if let Some(d) = &f.to {
-        qb.push(" AND collected_on <= ").push_bind(d.clone());
+        qb.push(" AND +collected_on <= ").push_bind(d.clone());
     }
     if let Some(q) = f.q.as_deref().and_then(fts_query) {
-        qb.push(" AND seq IN (SELECT rowid FROM samples_fts WHERE samples_fts MATCH ")
-            .push_bind(q)
-            .push(")");
+        // The search drives the query (see `list`), newest match first.
+        qb.push(" AND samples_fts MATCH ").push_bind(q);
     }
 }
 
@@ -720,12 +723,30 @@ pub async fn list(
     limit: i64,
     cursor: Option<i64>,
 ) -> Result<Page, StoreError> {
-    let mut qb: QueryBuilder<Sqlite> = QueryBuilder::new(format!("SELECT {COLUMNS} FROM samples"));
+    // With free text, the full-text index is walked newest first and
+    // joined to the records, so a page stops after `limit` matches instead
+    // of collecting every match first. The select list is qualified because
+    // the index has station, lithology and notes columns of its own.
+    let (from, key) = if f.q.as_deref().and_then(fts_query).is_some() {
+        (
+            "FROM samples_fts JOIN samples ON samples.seq = samples_fts.rowid",
+            "samples_fts.rowid",
+        )
+    } else {
+        ("FROM samples", "samples.seq")
+    };
+    let cols: String = COLUMNS
+        .split(", ")
+        .map(|c| format!("samples.{}", c.trim()))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let mut qb: QueryBuilder<Sqlite> = QueryBuilder::new(format!("SELECT {cols} {from}"));
     push_filters(&mut qb, f);
     if let Some(c) = cursor {
-        qb.push(" AND seq < ").push_bind(c);
+        qb.push(format!(" AND {key} < ")).push_bind(c);
     }
-    qb.push(" ORDER BY seq DESC LIMIT ").push_bind(limit + 1);
+    qb.push(format!(" ORDER BY {key} DESC LIMIT "))
+        .push_bind(limit + 1);
     let rows: Vec<Row> = qb
         .build_query_as()
         .fetch_all(pool)
