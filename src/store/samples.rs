@@ -724,12 +724,13 @@ pub async fn list(
     cursor: Option<i64>,
 ) -> Result<Page, StoreError> {
     // With free text, the full-text index is walked newest first and
-    // joined to the records, so a page stops after `limit` matches instead
+    // joined to the records (CROSS JOIN makes SQLite keep it the outer
+    // loop rather than probing it once per row of another index), so a page stops after `limit` matches instead
     // of collecting every match first. The select list is qualified because
     // the index has station, lithology and notes columns of its own.
     let (from, key) = if f.q.as_deref().and_then(fts_query).is_some() {
         (
-            "FROM samples_fts JOIN samples ON samples.seq = samples_fts.rowid",
+            "FROM samples_fts CROSS JOIN samples ON samples.seq = samples_fts.rowid",
             "samples_fts.rowid",
         )
     } else {
