@@ -92,7 +92,7 @@ const COLUMNS: &str = "seq, id, project, sample_code, revision, created_at, upda
 
 const NOW: &str = "strftime('%Y-%m-%dT%H:%M:%fZ', 'now')";
 
-/// Compresses a JSON document for a BLOB column (zlib, default level).
+/// Compresses a JSON document for a BLOB column (zlib).
 fn pack(json: &str) -> Vec<u8> {
     use std::io::Write;
     let mut enc = flate2::write::ZlibEncoder::new(
@@ -370,32 +370,57 @@ pub async fn insert_in(
             notes, identification, base_version)
          VALUES (?1, ?2, ?3, COALESCE(?19, 1), COALESCE(?4, {NOW}), COALESCE(?5, ?4, {NOW}), ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14,
             ?15, ?16, ?17, ?18)
-         RETURNING {COLUMNS}"
+         RETURNING revision, created_at, updated_at"
     );
-    let row: Row = sqlx::query_as(sqlx::AssertSqlSafe(sql))
-        .bind(&id)
-        .bind(&v.project)
-        .bind(&v.sample_code)
-        .bind(created)
-        .bind(updated)
-        .bind(&v.collected_on)
-        .bind(&v.collector)
-        .bind(&v.station)
-        .bind(v.latitude)
-        .bind(v.longitude)
-        .bind(v.coordinate_uncertainty_m)
-        .bind(v.setting.map(|x| x.to_string()))
-        .bind(&v.lithology)
-        .bind(obs)
-        .bind(&v.field_id)
-        .bind(&v.notes)
-        .bind(ident)
-        .bind(&s.identification.base_version)
-        .bind(keep.and_then(|k| k.revision))
-        .fetch_one(&mut **tx)
-        .await
-        .map_err(|e| classify(e, v))?;
-    let (_, rec) = row.into_record()?;
+    // Only what the database decides comes back; the rest of the record is
+    // what was just written (no second decompress and parse of the snapshot).
+    let (revision, created_at, updated_at): (i64, String, String) =
+        sqlx::query_as(sqlx::AssertSqlSafe(sql))
+            .bind(&id)
+            .bind(&v.project)
+            .bind(&v.sample_code)
+            .bind(created)
+            .bind(updated)
+            .bind(&v.collected_on)
+            .bind(&v.collector)
+            .bind(&v.station)
+            .bind(v.latitude)
+            .bind(v.longitude)
+            .bind(v.coordinate_uncertainty_m)
+            .bind(v.setting.map(|x| x.to_string()))
+            .bind(&v.lithology)
+            .bind(obs)
+            .bind(&v.field_id)
+            .bind(&v.notes)
+            .bind(ident)
+            .bind(&s.identification.base_version)
+            .bind(keep.and_then(|k| k.revision))
+            .fetch_one(&mut **tx)
+            .await
+            .map_err(|e| classify(e, v))?;
+    let rec = SampleRecord {
+        id,
+        project: v.project.clone(),
+        sample_code: v.sample_code.clone(),
+        collected_on: v.collected_on.clone(),
+        collector: v.collector.clone(),
+        station: v.station.clone(),
+        latitude: v.latitude,
+        longitude: v.longitude,
+        coordinate_uncertainty_m: v.coordinate_uncertainty_m,
+        setting: v.setting,
+        lithology: v.lithology.clone(),
+        observations: v.observations.clone(),
+        field_id: v.field_id.clone(),
+        notes: v.notes.clone(),
+        created_at,
+        updated_at,
+        revision,
+        identification: s.identification.clone(),
+        base_version: s.identification.base_version.clone(),
+        deleted: false,
+        deleted_at: None,
+    };
     append_revision(tx, &rec, s.author, action).await?;
     Ok(rec)
 }
