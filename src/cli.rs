@@ -134,16 +134,7 @@ pub async fn backup(config: &Config, path: &std::path::Path) -> Result<u64, Comm
     Ok(std::fs::metadata(path).map(|m| m.len()).unwrap_or(0))
 }
 
-/// What an import did.
-#[derive(Debug)]
-pub struct ImportReport {
-    /// Rows that passed every check.
-    pub valid: usize,
-    /// Rows written (0 on a dry run).
-    pub written: usize,
-    /// Every refused row.
-    pub errors: Vec<crate::import::RowError>,
-}
+pub use crate::import::ImportReport;
 
 /// `basal import FILE --project CODE [--dry-run]`.
 pub async fn import(
@@ -156,45 +147,35 @@ pub async fn import(
     let data = std::fs::read(file)
         .map_err(|e| CommandError::Read(file.display().to_string(), e.to_string()))?;
     let pool = crate::store::open(&config.db).await?;
-    let taken: std::collections::HashSet<String> = crate::store::samples::codes_in(&pool, project)
-        .await?
-        .into_iter()
-        .collect();
     let rows = data
         .iter()
         .filter(|b| **b == b'\n')
         .count()
         .saturating_sub(1) as u64;
-    let bar = progress_bar(rows, "checking");
-    let checked = crate::import::check(
+    let checking = progress_bar(rows, "checking");
+    let writing = progress_bar(rows, "writing");
+    let report = crate::import::run(
+        &pool,
         &data,
         project,
-        &taken,
-        crate::engine::Engine::builtin(),
-        &|| bar.inc(1),
+        dry_run,
+        author,
+        &|| checking.inc(1),
+        &|n| {
+            if n == 1 {
+                checking.finish_and_clear();
+            }
+            writing.set_position(n);
+        },
     )
-    .map_err(|e| CommandError::Import(e.to_string()))?;
-    bar.finish_and_clear();
-    let valid = checked.items.len();
-    if !checked.errors.is_empty() || dry_run {
-        pool.close().await;
-        return Ok(ImportReport {
-            valid,
-            written: 0,
-            errors: checked.errors,
-        });
-    }
-    crate::store::samples::create_project(&pool, project, project, "{seq:4}").await?;
-    let bar = progress_bar(valid as u64, "writing");
-    let written =
-        crate::store::samples::import_all(&pool, &checked.items, author, &|n| bar.set_position(n))
-            .await?;
-    bar.finish_and_clear();
+    .await;
+    checking.finish_and_clear();
+    writing.finish_and_clear();
     pool.close().await;
-    Ok(ImportReport {
-        valid,
-        written,
-        errors: Vec::new(),
+    report.map_err(|e| match e {
+        crate::import::RunError::File(e) => CommandError::Import(e.to_string()),
+        crate::import::RunError::Write(e) => CommandError::Write(e),
+        crate::import::RunError::Store(e) => CommandError::Store(e),
     })
 }
 

@@ -340,6 +340,66 @@ fn row(
     })
 }
 
+/// What an import did.
+#[derive(Debug)]
+pub struct ImportReport {
+    /// Rows that passed every check.
+    pub valid: usize,
+    /// Rows written (0 on a dry run or when any row was refused).
+    pub written: usize,
+    /// Every refused row.
+    pub errors: Vec<RowError>,
+}
+
+/// Why an import could not run at all.
+#[derive(Debug, thiserror::Error)]
+pub enum RunError {
+    /// The file as a whole is unusable (header, project code).
+    #[error("{0}")]
+    File(RowError),
+    /// Writing failed; nothing was written.
+    #[error("{0}")]
+    Write(#[from] crate::store::samples::WriteError),
+    /// The store failed.
+    #[error("{0}")]
+    Store(#[from] crate::store::StoreError),
+}
+
+/// Checks every row of `data` and, when none is refused and this is not a
+/// dry run, writes them all in one transaction (creating the project when
+/// it does not exist). `checked` is told after each row read, `written`
+/// after each row written.
+pub async fn run(
+    pool: &sqlx::SqlitePool,
+    data: &[u8],
+    project: &str,
+    dry_run: bool,
+    author: Option<&str>,
+    checked: &(dyn Fn() + Sync),
+    written: &(dyn Fn(u64) + Sync),
+) -> Result<ImportReport, RunError> {
+    let taken: HashSet<String> = crate::store::samples::codes_in(pool, project)
+        .await?
+        .into_iter()
+        .collect();
+    let c = check(data, project, &taken, Engine::builtin(), checked).map_err(RunError::File)?;
+    let valid = c.items.len();
+    if !c.errors.is_empty() || dry_run {
+        return Ok(ImportReport {
+            valid,
+            written: 0,
+            errors: c.errors,
+        });
+    }
+    crate::store::samples::create_project(pool, project, project, "{seq:4}").await?;
+    let n = crate::store::samples::import_all(pool, &c.items, author, written).await?;
+    Ok(ImportReport {
+        valid,
+        written: n,
+        errors: Vec::new(),
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -8,6 +8,7 @@ pub mod csrf;
 pub mod error;
 pub mod flow;
 pub mod forms;
+pub mod log_admin;
 pub mod pages;
 pub mod reference;
 pub mod samples_api;
@@ -56,6 +57,7 @@ pub fn app(state: AppState) -> Router {
         .merge(flow::router())
         .merge(samples_api::router())
         .merge(samples_pages::router())
+        .merge(log_admin::router())
         .fallback(pages::not_found)
         .with_state(state)
         .layer(axum::middleware::from_fn(csrf::layer))

@@ -173,6 +173,20 @@ impl<'a> Session<'a> {
         r
     }
 
+    /// POSTs any body with the session's cookie.
+    pub async fn post_with(&mut self, uri: &str, content_type: &str, body: Vec<u8>) -> Reply {
+        let mut b = Request::post(uri).header(header::CONTENT_TYPE, content_type);
+        if let Some(c) = &self.cookie {
+            b = b.header(header::COOKIE, c);
+        }
+        let r = self
+            .app
+            .send(b.body(Body::from(body)).expect("request"))
+            .await;
+        self.remember(&r);
+        r
+    }
+
     /// POSTs a form with the right token added.
     pub async fn submit(&mut self, uri: &str, fields: &str) -> Reply {
         let body = format!("_csrf={}&{fields}", self.token());

@@ -4,6 +4,7 @@
 mod flow_pages;
 mod helpers;
 mod identify;
+mod log_admin;
 mod minerals;
 mod reference_pages;
 mod sample_pages;
