@@ -361,6 +361,14 @@ pub fn parse_query(raw: Option<&str>) -> std::result::Result<ListQuery, FieldErr
             }
         }
     }
+    if let (Some(a), Some(b)) = (&q.filter.from, &q.filter.to)
+        && a > b
+    {
+        return Err(FieldError::new(
+            "to",
+            format!("the end date {b} is before the start date {a}"),
+        ));
+    }
     Ok(q)
 }
 
