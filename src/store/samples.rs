@@ -687,17 +687,25 @@ pub struct Page {
 }
 
 /// Turns free text into an FTS5 query that cannot be a syntax error: every
-/// word becomes a quoted prefix term, all of them required.
+/// word becomes a quoted term, all of them required. Words match whole
+/// (case and accents aside); a word typed with a trailing `*` matches every
+/// word it begins. Whole words are the default because a prefix term over a
+/// common word costs FTS5 a merge of its whole posting list (about 30 ms at
+/// a million samples, against 0.2 ms for the whole word).
 pub fn fts_query(q: &str) -> Option<String> {
     let terms: Vec<String> = q
         .split_whitespace()
-        .map(|w| {
-            w.chars()
+        .filter_map(|w| {
+            let prefix = w.ends_with('*');
+            let word: String = w
+                .chars()
                 .filter(|c| c.is_alphanumeric() || *c == '-' || *c == '_' || *c == '.')
-                .collect::<String>()
+                .collect();
+            (!word.is_empty()).then(|| {
+                let quoted = format!("\"{}\"", word.replace('"', "\"\""));
+                if prefix { format!("{quoted}*") } else { quoted }
+            })
         })
-        .filter(|w| !w.is_empty())
-        .map(|w| format!("\"{}\"*", w.replace('"', "\"\"")))
         .collect();
     (!terms.is_empty()).then(|| terms.join(" "))
 }
@@ -1029,7 +1037,7 @@ mod tests {
         assert_eq!(seen[0], "K-024");
         assert_eq!(seen[24], "K-000");
         let f = Filter {
-            q: Some("chlor".into()),
+            q: Some("chlor*".into()),
             ..Default::default()
         };
         assert_eq!(
@@ -1042,11 +1050,16 @@ mod tests {
     fn free_text_never_becomes_fts_syntax() {
         assert_eq!(
             fts_query("biotite  schist").as_deref(),
-            Some("\"biotite\"* \"schist\"*")
+            Some("\"biotite\" \"schist\"")
         );
         assert_eq!(
+            fts_query("chlor* phyllite").as_deref(),
+            Some("\"chlor\"* \"phyllite\"")
+        );
+        // FTS5 operators and stray punctuation are only ever words.
+        assert_eq!(
             fts_query("\"OR\" NEAR( *").as_deref(),
-            Some("\"OR\"* \"NEAR\"*")
+            Some("\"OR\" \"NEAR\"")
         );
         assert_eq!(fts_query("  ").as_deref(), None);
     }
