@@ -18,7 +18,7 @@ use axum::http::Request;
 use basal::engine::Engine;
 use basal::engine::input::observations_from_json;
 use basal::samples::SampleInput;
-use basal::store::samples::{ImportItem, Kept, import_all};
+use basal::store::samples::{ImportItem, Kept, Packed, import_all};
 use http_body_util::BodyExt;
 use tower::ServiceExt;
 
@@ -88,12 +88,13 @@ const WORDS: [&str; 8] = [
 
 async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) {
     let t = templates(engine);
+    let packed: Vec<Packed> = t.iter().map(|(_, ident, _)| Packed::of(ident)).collect();
     let mut i = from;
     while i < to {
         let end = (i + BATCH).min(to);
         let items: Vec<ImportItem> = (i..end)
             .map(|n| {
-                let (obs, ident, id) = &t[n % t.len()];
+                let (obs, _, id) = &t[n % t.len()];
                 let input = SampleInput {
                     project: Some(if n % 10 == 0 {
                         "default".into()
@@ -124,7 +125,7 @@ async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) 
                 };
                 ImportItem {
                     sample: input.validate(|_| true).expect("valid"),
-                    identification: ident.clone(),
+                    snapshot: packed[n % t.len()].clone(),
                     keep: Kept::default(),
                 }
             })
@@ -252,6 +253,11 @@ async fn main() {
     }
     let csv_path = dir.path().join("rows.csv");
     std::fs::write(&csv_path, w.into_inner().expect("csv")).expect("write csv");
+    // BASAL_SCALE_KEEP_CSV=PATH keeps a copy of the file, to time or
+    // profile `basal import` on its own.
+    if let Ok(keep) = std::env::var("BASAL_SCALE_KEEP_CSV") {
+        std::fs::copy(&csv_path, &keep).expect("keep the csv");
+    }
     let fresh = dir.path().join("import.sqlite");
     let config = basal::cli::Config {
         listen: "127.0.0.1:0".parse().expect("addr"),

@@ -162,7 +162,7 @@ pub async fn import(
         author,
         &|| checking.inc(1),
         &|n| {
-            if n == 1 {
+            if !checking.is_finished() {
                 checking.finish_and_clear();
             }
             writing.set_position(n);

@@ -11,8 +11,11 @@ use std::collections::HashSet;
 
 use crate::engine::input::{describe_observation_field, object_from_json};
 use crate::engine::{Engine, Identification, Observations};
+
+/// Rows handed to a checking thread at a time.
+const CHUNK: usize = 64;
 use crate::samples::{SampleInput, valid_project_code};
-use crate::store::samples::{ImportItem, Kept};
+use crate::store::samples::{ImportItem, Kept, Packed};
 
 /// Columns read from the file: the export's (its two convenience columns,
 /// the top candidate, are accepted and ignored).
@@ -41,8 +44,10 @@ impl std::fmt::Display for RowError {
 
 /// The outcome of reading a file.
 pub struct Checked {
-    /// Rows ready to write.
+    /// Rows ready to write, in the order they will be written.
     pub items: Vec<ImportItem>,
+    /// The file line of each item.
+    pub lines: Vec<u64>,
     /// Every refused row.
     pub errors: Vec<RowError>,
 }
@@ -57,13 +62,18 @@ fn err(line: u64, column: &str, message: impl Into<String>) -> RowError {
 
 /// Reads and validates a whole CSV file for `project`. `taken` holds the
 /// codes already used in that project; codes repeated inside the file are
-/// refused too. `tick` is called once per row read.
+/// refused too. `tick` is called once per row checked.
+///
+/// The rows are checked on every core (reading the identification
+/// snapshots and compressing them is most of the work of an import); the
+/// verdicts come back in file order, so the report is the same whatever
+/// the number of threads.
 pub fn check(
     data: &[u8],
     project: &str,
     taken: &HashSet<String>,
     engine: &Engine,
-    tick: &dyn Fn(),
+    tick: &(dyn Fn() + Sync),
 ) -> Result<Checked, RowError> {
     if !valid_project_code(project) {
         return Err(err(
@@ -102,31 +112,18 @@ pub fn check(
     if !index.contains_key("sample_code") {
         return Err(err(1, "sample_code", "the file needs a sample_code column"));
     }
-    let base = engine.base();
+    let verdicts = check_rows(data, rdr, &index, project, engine, tick);
     let mut seen: HashSet<String> = HashSet::new();
     let mut ids: HashSet<String> = HashSet::new();
     let mut out = Checked {
         items: Vec::new(),
+        lines: Vec::new(),
         errors: Vec::new(),
     };
-    for rec in rdr.records() {
-        tick();
-        let rec = match rec {
-            Ok(r) => r,
-            Err(e) => {
-                let line = e.position().map_or(0, |p| p.line());
-                out.errors
-                    .push(err(line, "", format!("not a well-formed CSV row: {e}")));
-                continue;
-            }
-        };
-        let line = rec.position().map_or(0, |p| p.line());
-        let cells = Cells {
-            rec: &rec,
-            index: &index,
-        };
-        match row(line, &cells, project, base, engine) {
-            Ok(item) => {
+    let mut lines = Vec::new();
+    for verdict in verdicts {
+        match verdict {
+            Ok((line, item)) => {
                 let code = item.sample.sample_code.clone();
                 if taken.contains(&code) {
                     out.errors.push(err(
@@ -150,6 +147,7 @@ pub fn check(
                     ));
                 } else {
                     out.items.push(item);
+                    lines.push(line);
                 }
             }
             Err(e) => out.errors.push(e),
@@ -160,17 +158,121 @@ pub fn check(
     // exported file imports in the order it was made. The export lists
     // newest first, so rows with equal times go in reverse file order; rows
     // without a time follow in file order (oldest first, as people write).
-    let mut indexed: Vec<(usize, ImportItem)> = out.items.into_iter().enumerate().collect();
+    let mut indexed: Vec<(usize, (u64, ImportItem))> =
+        lines.into_iter().zip(out.items).enumerate().collect();
     indexed.sort_by(
-        |(i, a), (j, b)| match (&a.keep.created_at, &b.keep.created_at) {
+        |(i, (_, a)), (j, (_, b))| match (&a.keep.created_at, &b.keep.created_at) {
             (Some(x), Some(y)) => x.cmp(y).then(j.cmp(i)),
             (Some(_), None) => std::cmp::Ordering::Less,
             (None, Some(_)) => std::cmp::Ordering::Greater,
             (None, None) => i.cmp(j),
         },
     );
-    out.items = indexed.into_iter().map(|(_, it)| it).collect();
+    (out.lines, out.items) = indexed.into_iter().map(|(_, it)| it).unzip();
     Ok(out)
+}
+
+type Verdict = Result<(u64, ImportItem), RowError>;
+
+/// Checks every record of the reader: the calling thread reads the file
+/// and hands out chunks of rows, one thread per core checks them. The
+/// verdicts come back in file order.
+fn check_rows(
+    data: &[u8],
+    mut rdr: csv::Reader<&[u8]>,
+    index: &std::collections::HashMap<String, usize>,
+    project: &str,
+    engine: &Engine,
+    tick: &(dyn Fn() + Sync),
+) -> Vec<Verdict> {
+    let workers = std::thread::available_parallelism().map_or(1, std::num::NonZero::get);
+    let (send, receive) = std::sync::mpsc::sync_channel::<(
+        usize,
+        Vec<(u64, csv::Result<csv::StringRecord>)>,
+    )>(workers * 2);
+    let receive = std::sync::Mutex::new(receive);
+    let done: std::sync::Mutex<Vec<(usize, Vec<Verdict>)>> = std::sync::Mutex::new(Vec::new());
+    std::thread::scope(|scope| {
+        for _ in 0..workers {
+            scope.spawn(|| {
+                loop {
+                    // The lock is held only to take the next chunk.
+                    let next = receive.lock().map_or(None, |r| r.recv().ok());
+                    let Some((n, chunk)) = next else { break };
+                    let verdicts: Vec<Verdict> = chunk
+                        .into_iter()
+                        .map(|(line, rec)| {
+                            tick();
+                            check_record(line, rec, index, project, engine)
+                        })
+                        .collect();
+                    if let Ok(mut d) = done.lock() {
+                        d.push((n, verdicts));
+                    }
+                }
+            });
+        }
+        let mut lines = Lines::default();
+        let mut records = rdr.records().map(|rec| {
+            let byte = match &rec {
+                Ok(r) => r.position().map(csv::Position::byte),
+                Err(e) => e.position().map(csv::Position::byte),
+            };
+            (byte.map_or(0, |b| lines.at(data, b)), rec)
+        });
+        let mut n = 0;
+        loop {
+            let chunk: Vec<_> = records.by_ref().take(CHUNK).collect();
+            if chunk.is_empty() || send.send((n, chunk)).is_err() {
+                break;
+            }
+            n += 1;
+        }
+        drop(send);
+    });
+    let mut done = done.into_inner().unwrap_or_default();
+    done.sort_unstable_by_key(|(n, _)| *n);
+    done.into_iter().flat_map(|(_, v)| v).collect()
+}
+
+/// Line numbers of record starts, counted as the file is read.
+///
+/// The csv reader's own line count lags by one after a CRLF line end (it
+/// ends the record at the CR and counts the LF with the next record), and
+/// RFC 4180 files, the export's among them, end their lines with CRLF. So
+/// the line is counted here from the record's byte offset.
+#[derive(Default)]
+struct Lines {
+    byte: usize,
+    line: u64,
+}
+
+impl Lines {
+    /// The 1-based line on which the record at `byte` starts (offsets
+    /// only grow as the file is read).
+    fn at(&mut self, data: &[u8], byte: u64) -> u64 {
+        let mut start = usize::try_from(byte).unwrap_or(usize::MAX).min(data.len());
+        // The LF of the previous line's CRLF belongs to that line.
+        if data.get(start) == Some(&b'\n') {
+            start += 1;
+        }
+        let from = self.byte.min(start);
+        self.line += data[from..start].iter().filter(|b| **b == b'\n').count() as u64;
+        self.byte = start;
+        self.line + 1
+    }
+}
+
+fn check_record(
+    line: u64,
+    rec: csv::Result<csv::StringRecord>,
+    index: &std::collections::HashMap<String, usize>,
+    project: &str,
+    engine: &Engine,
+) -> Verdict {
+    let rec = rec.map_err(|e| err(line, "", format!("not a well-formed CSV row: {e}")))?;
+    let cells = Cells { rec: &rec, index };
+    row(line, &cells, project, engine.base(), engine).map(|item| (line, item))
 }
 
 /// The cells of one row, by column name; blank cells read as absent.
@@ -273,18 +375,23 @@ fn row(
     let sample = input
         .validate(|id| base.entry(id).is_some())
         .map_err(|e| err(line, &e.field, e.message))?;
-    let identification: Identification = match cells.get("identification") {
-        Some(json) => serde_json::from_str(json).map_err(|e| {
-            err(
-                line,
-                "identification",
-                format!("not an identification as the export writes it: {e}"),
-            )
-        })?,
-        None => engine.identify(&sample.observations),
+    // A snapshot from the file is read in full (so a damaged one is
+    // refused here) and then kept as the file's own text.
+    let snapshot = match cells.get("identification") {
+        Some(json) => {
+            let identification: Identification = serde_json::from_str(json).map_err(|e| {
+                err(
+                    line,
+                    "identification",
+                    format!("not an identification as the export writes it: {e}"),
+                )
+            })?;
+            Packed::json(&identification.base_version, json)
+        }
+        None => Packed::of(&engine.identify(&sample.observations)),
     };
     if let Some(bv) = cells.get("base_version")
-        && bv != identification.base_version
+        && bv != snapshot.base_version
     {
         return Err(err(
             line,
@@ -330,7 +437,7 @@ fn row(
     };
     Ok(ImportItem {
         sample,
-        identification,
+        snapshot,
         keep: Kept {
             revision,
             id,
@@ -382,8 +489,34 @@ pub async fn run(
         .await?
         .into_iter()
         .collect();
-    let c = check(data, project, &taken, Engine::builtin(), checked).map_err(RunError::File)?;
-    let valid = c.items.len();
+    let mut c = check(data, project, &taken, Engine::builtin(), checked).map_err(RunError::File)?;
+    // Ids from an export must be new to this log (a file imported twice,
+    // or into the log it came from, would otherwise clash at the write).
+    let file_ids: Vec<&str> = c
+        .items
+        .iter()
+        .filter_map(|i| i.keep.id.as_deref())
+        .collect();
+    let present: HashSet<String> = crate::store::samples::ids_present(pool, &file_ids)
+        .await?
+        .into_iter()
+        .collect();
+    let mut valid = c.items.len();
+    for (it, line) in c.items.iter().zip(&c.lines) {
+        if let Some(id) = it.keep.id.as_deref()
+            && present.contains(id)
+        {
+            valid -= 1;
+            c.errors.push(err(
+                *line,
+                "id",
+                format!(
+                    "{id} is already in the log (was this file imported before?); leave the id blank to give the row a new one"
+                ),
+            ));
+        }
+    }
+    c.errors.sort_by_key(|e| e.line);
     if !c.errors.is_empty() || dry_run {
         return Ok(ImportReport {
             valid,
@@ -440,6 +573,20 @@ mod tests {
                 (7, "field_id")
             ]
         );
+    }
+
+    #[test]
+    fn lines_are_counted_the_same_with_crlf_and_lf_and_across_quoted_line_breaks() {
+        let lf =
+            "sample_code,notes,latitude,longitude\nA1,,1,1\nA2,\"two\nlines\",95,1\nA3,,96,1\n";
+        let crlf = lf.replace('\n', "\r\n");
+        for csv in [lf.to_string(), crlf] {
+            let c = run(&csv);
+            let lines: Vec<u64> = c.errors.iter().map(|e| e.line).collect();
+            // A2 starts on line 3 and spans two lines; A3 is on line 5.
+            assert_eq!(lines, vec![3, 5], "{csv:?}");
+            assert_eq!(c.lines, vec![2]);
+        }
     }
 
     #[test]

@@ -323,6 +323,12 @@ async fn import_upload(
             p.problem = Some(e.to_string());
             Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response())
         }
+        Err(crate::import::RunError::Write(
+            e @ crate::store::samples::WriteError::ImportConflict,
+        )) => {
+            p.problem = Some(e.to_string());
+            Ok((StatusCode::CONFLICT, p).into_response())
+        }
         Err(crate::import::RunError::Write(e)) => Err(PageError::Internal(e.to_string())),
         Err(crate::import::RunError::Store(e)) => Err(e.into()),
     }

@@ -117,6 +117,11 @@ fn write_error(e: WriteError) -> Response {
             })),
         )
             .into_response(),
+        WriteError::ImportConflict => ApiError::Conflict(FieldError::new(
+            "sample_code",
+            WriteError::ImportConflict.to_string(),
+        ))
+        .into_response(),
         WriteError::Store(e) => ApiError::from(e).into_response(),
     }
 }

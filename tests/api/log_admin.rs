@@ -180,3 +180,30 @@ async fn an_upload_without_a_file_or_token_is_refused() {
     assert_eq!(forged.status, StatusCode::FORBIDDEN);
     assert_eq!(count(&app, "default").await, 0);
 }
+
+#[tokio::test]
+async fn an_export_uploaded_again_names_every_row_whose_id_is_already_in_the_log() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    for code in ["EX-1", "EX-2"] {
+        let r = app
+            .post_json(
+                "/api/v1/samples",
+                &format!(r#"{{"project":"default","sample_code":"{code}","notes":"ridge"}}"#),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.text());
+    }
+    let export = app.get("/export/samples.csv?project=default").await;
+    assert_eq!(export.status, StatusCode::OK);
+    // Into another project the codes are free, but the ids are this log's.
+    let csv = export.text().replace(",default,", ",other,");
+    let r = upload(&mut s, "other", false, Some(&csv)).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.text());
+    let html = r.text();
+    assert!(html.contains("line 2: id"), "{html}");
+    assert!(html.contains("line 3: id"), "{html}");
+    assert!(html.contains("already in the log"), "{html}");
+    assert_eq!(count(&app, "other").await, 0);
+    assert_eq!(count(&app, "default").await, 2);
+}
