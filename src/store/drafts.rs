@@ -21,6 +21,8 @@ pub struct Draft {
     pub skipped: Vec<Property>,
     /// When the flow reached its results, if it has.
     pub finished_at: Option<String>,
+    /// The saved sample this draft re-examines, if any.
+    pub for_sample: Option<String>,
 }
 
 #[derive(sqlx::FromRow)]
@@ -31,6 +33,7 @@ struct DraftRow {
     observations: String,
     skipped: String,
     finished_at: Option<String>,
+    for_sample: Option<String>,
 }
 
 fn decode<T: DeserializeOwned>(id: &str, what: &'static str, json: &str) -> Result<T, StoreError> {
@@ -51,6 +54,7 @@ impl TryFrom<DraftRow> for Draft {
             created_at: r.created_at,
             updated_at: r.updated_at,
             finished_at: r.finished_at,
+            for_sample: r.for_sample,
         })
     }
 }
@@ -64,7 +68,38 @@ const EMPTY_DRAFT_MAX_AGE: &str = "-1 day";
 /// Starts a new, empty draft.
 #[tracing::instrument(skip(pool))]
 pub async fn create(pool: &SqlitePool) -> Result<Draft, StoreError> {
+    start(pool, &Observations::default(), None).await
+}
+
+/// Starts a draft that re-examines the saved sample `sample_id` from its
+/// observations.
+#[tracing::instrument(skip(pool, observations))]
+pub async fn create_for_sample(
+    pool: &SqlitePool,
+    sample_id: &str,
+    observations: &Observations,
+) -> Result<Draft, StoreError> {
+    start(pool, observations, Some(sample_id)).await
+}
+
+fn answers(observations: &Observations) -> i64 {
+    Property::ALL
+        .iter()
+        .filter(|p| p.is_observed(observations))
+        .count() as i64
+}
+
+async fn start(
+    pool: &SqlitePool,
+    observations: &Observations,
+    for_sample: Option<&str>,
+) -> Result<Draft, StoreError> {
     let id = uuid::Uuid::new_v4().to_string();
+    let obs = serde_json::to_string(observations).map_err(|e| StoreError::Corrupt {
+        what: "draft observations",
+        id: id.clone(),
+        detail: e.to_string(),
+    })?;
     let mut tx = super::write_tx(pool).await?;
     sqlx::query(
         "DELETE FROM drafts WHERE answers = 0 AND finished_at IS NULL
@@ -75,10 +110,14 @@ pub async fn create(pool: &SqlitePool) -> Result<Draft, StoreError> {
     .await
     .context("pruning empty drafts")?;
     let row: DraftRow = sqlx::query_as(sqlx::AssertSqlSafe(format!(
-        "INSERT INTO drafts (id, created_at, updated_at) VALUES (?1, {NOW}, {NOW})
-         RETURNING id, created_at, updated_at, observations, skipped, finished_at"
+        "INSERT INTO drafts (id, created_at, updated_at, observations, answers, for_sample)
+         VALUES (?1, {NOW}, {NOW}, ?2, ?3, ?4)
+         RETURNING id, created_at, updated_at, observations, skipped, finished_at, for_sample"
     )))
     .bind(&id)
+    .bind(obs)
+    .bind(answers(observations))
+    .bind(for_sample)
     .fetch_one(&mut *tx)
     .await
     .context("creating a draft")?;
@@ -91,7 +130,7 @@ pub async fn create(pool: &SqlitePool) -> Result<Draft, StoreError> {
 #[tracing::instrument(skip(pool))]
 pub async fn get(pool: &SqlitePool, id: &str) -> Result<Option<Draft>, StoreError> {
     let row: Option<DraftRow> = sqlx::query_as(
-        "SELECT id, created_at, updated_at, observations, skipped, finished_at
+        "SELECT id, created_at, updated_at, observations, skipped, finished_at, for_sample
          FROM drafts WHERE id = ?1 AND discarded_at IS NULL",
     )
     .bind(id)
@@ -120,10 +159,7 @@ pub async fn save(
         id: id.to_string(),
         detail: e.to_string(),
     })?;
-    let answers = Property::ALL
-        .iter()
-        .filter(|p| p.is_observed(observations))
-        .count() as i64;
+    let answers = answers(observations);
     let done = sqlx::query(sqlx::AssertSqlSafe(format!(
         "UPDATE drafts SET observations = ?2, skipped = ?3, answers = ?4, updated_at = {NOW}
          WHERE id = ?1 AND discarded_at IS NULL"
@@ -169,7 +205,7 @@ pub async fn discard(pool: &SqlitePool, id: &str) -> Result<bool, StoreError> {
 #[tracing::instrument(skip(pool))]
 pub async fn list_open(pool: &SqlitePool, limit: i64) -> Result<Vec<Draft>, StoreError> {
     let rows: Vec<DraftRow> = sqlx::query_as(
-        "SELECT id, created_at, updated_at, observations, skipped, finished_at
+        "SELECT id, created_at, updated_at, observations, skipped, finished_at, for_sample
          FROM drafts WHERE discarded_at IS NULL
          ORDER BY updated_at DESC, id LIMIT ?1",
     )

@@ -98,6 +98,8 @@ pub struct QuestionPage {
     pub not_tested: Vec<&'static str>,
     /// Cautions for the current candidates.
     pub cautions: Vec<CautionView>,
+    /// The saved sample being tested again, if any.
+    pub for_sample: Option<String>,
 }
 
 fn question_page(
@@ -118,6 +120,7 @@ fn question_page(
         answers: views::answers(&d.observations, &format!("/identify/{}", d.id)),
         not_tested: d.skipped.iter().map(|p| p.label()).collect(),
         cautions: views::cautions(id),
+        for_sample: d.for_sample.clone(),
     }
 }
 
@@ -375,6 +378,8 @@ pub struct ResultsPage {
     pub observed_anything: bool,
     /// A question still worth asking, if any.
     pub more_to_ask: Option<&'static str>,
+    /// The saved sample being tested again (id, code), while it is live.
+    pub for_sample: Option<(String, String)>,
 }
 
 fn words(o: &Observations, props: &[Property]) -> Vec<String> {
@@ -429,6 +434,13 @@ async fn results(
     if more.is_none() {
         drafts::finish(&st.db, &d.id).await?;
     }
+    let for_sample = match d.for_sample.as_deref() {
+        Some(sid) => crate::store::samples::get(&st.db, sid)
+            .await?
+            .filter(|s| !s.deleted)
+            .map(|s| (s.id, s.sample_code)),
+        None => None,
+    };
     let base = st.engine.base();
     let name_of = |eid: &str| {
         base.entry(eid)
@@ -504,6 +516,7 @@ async fn results(
         answers: views::answers(o, &format!("/identify/{}", d.id)),
         observed_anything: !o.is_empty(),
         more_to_ask: more.map(|(p, _)| p.label()),
+        for_sample,
     })
 }
 

@@ -49,6 +49,7 @@ pub fn router() -> Router<AppState> {
         .route("/samples/new", get(new_form))
         .route("/samples/{id}", get(record))
         .route("/samples/{id}/edit", get(edit_form).post(edit))
+        .route("/samples/{id}/reexamine", post(reexamine))
         .route("/samples/{id}/delete", post(remove))
         .route("/samples/{id}/restore", post(restore))
 }
@@ -844,25 +845,7 @@ async fn new_form(
         ..Default::default()
     };
     if let Some(draft) = query_value(raw.as_deref(), "draft") {
-        let missing = || {
-            PageError::NotFound(format!(
-                "There is no identification {draft} to save as a sample: it may have been discarded."
-            ))
-        };
-        if uuid::Uuid::try_parse(&draft).is_err() {
-            return Err(missing());
-        }
-        let d = drafts::get(&st.db, &draft).await?.ok_or_else(missing)?;
-        if !d.observations.is_empty() {
-            let id = st.engine.identify(&d.observations);
-            if let Some(c) = id.candidates.first() {
-                v.field_id = c.id.to_string();
-            }
-            if let Some(s) = d.observations.setting {
-                v.setting = s.as_str().to_string();
-            }
-            v.observations = observations_json(&d.observations);
-        }
+        from_draft(&st, &draft, &mut v).await?;
     }
     if let Some((_, code)) = suggest(&st, &v.project).await? {
         v.sample_code = code;
@@ -1153,6 +1136,8 @@ pub struct EditPage {
     pub id: String,
     /// The form.
     pub form: FormView,
+    /// Whether the observations come from a re-examination just made.
+    pub from_draft: bool,
 }
 
 async fn edit_page(
@@ -1181,25 +1166,83 @@ async fn edit_page(
         base_version: base_version(st),
         id: rec.id.clone(),
         form,
+        from_draft: false,
     })
 }
 
-/// `GET /samples/{id}/edit`.
+/// Puts a draft's observations into a form: its observations, its
+/// setting when it recorded one, and its leading candidate as the field
+/// identification.
+async fn from_draft(st: &AppState, draft: &str, v: &mut Typed) -> PageResult<()> {
+    let missing = || {
+        PageError::NotFound(format!(
+            "There is no identification {draft} to take the observations from: it may have been discarded. Open drafts are listed at /identify/drafts."
+        ))
+    };
+    if uuid::Uuid::try_parse(draft).is_err() {
+        return Err(missing());
+    }
+    let d = drafts::get(&st.db, draft).await?.ok_or_else(missing)?;
+    let id = st.engine.identify(&d.observations);
+    v.field_id = if d.observations.is_empty() {
+        String::new()
+    } else {
+        id.candidates
+            .first()
+            .map(|c| c.id.to_string())
+            .unwrap_or_default()
+    };
+    if let Some(s) = d.observations.setting {
+        v.setting = s.as_str().to_string();
+    }
+    v.observations = if d.observations.is_empty() {
+        String::new()
+    } else {
+        observations_json(&d.observations)
+    };
+    Ok(())
+}
+
+/// `GET /samples/{id}/edit[?draft=<uuid>]`: the form with the record's
+/// values; with a draft (the sample tested again), its observations and
+/// leading candidate in place of the saved ones.
 async fn edit_form(
     State(st): State<AppState>,
     Extension(csrf): Extension<CsrfToken>,
     Path(id): Path<String>,
+    RawQuery(raw): RawQuery,
 ) -> PageResult<Response> {
     let rec = load(&st, &id).await?;
     if rec.deleted {
         return Ok(deleted_page(&rec));
     }
-    let v = Typed::from_record(&rec);
-    Ok(
-        edit_page(&st, &csrf, &rec, rec.revision, v, FieldMessages::new())
-            .await?
-            .into_response(),
-    )
+    let mut v = Typed::from_record(&rec);
+    let draft = query_value(raw.as_deref(), "draft");
+    if let Some(d) = &draft {
+        from_draft(&st, d, &mut v).await?;
+    }
+    let mut page = edit_page(&st, &csrf, &rec, rec.revision, v, FieldMessages::new()).await?;
+    page.from_draft = draft.is_some();
+    Ok(page.into_response())
+}
+
+/// `POST /samples/{id}/reexamine`: starts the questions again from the
+/// sample's recorded answers; the results offer to put the new ones into
+/// the sample (through its edit form, as a new revision).
+async fn reexamine(
+    State(st): State<AppState>,
+    Extension(csrf): Extension<CsrfToken>,
+    Path(id): Path<String>,
+    body: Bytes,
+) -> PageResult<Response> {
+    let form = FormData::parse(&body);
+    csrf::verify(&csrf, form.get(csrf::FIELD))?;
+    let rec = load(&st, &id).await?;
+    if rec.deleted {
+        return Ok(deleted_page(&rec));
+    }
+    let d = drafts::create_for_sample(&st.db, &rec.id, &rec.observations).await?;
+    Ok(Redirect::to(&format!("/identify/{}", d.id)).into_response())
 }
 
 /// The 409 page: someone else saved the record after this form was opened.

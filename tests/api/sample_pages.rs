@@ -685,3 +685,123 @@ async fn saving_from_the_results_carries_the_observations_and_the_leader() {
     assert_eq!(api["observations"]["tenacity"], "flexible");
     assert_eq!(api["identification"]["candidates"][0]["id"], json!(leader));
 }
+
+#[tokio::test]
+async fn testing_a_saved_sample_again_puts_the_new_answers_into_it_as_a_new_revision() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    // Saved first as a pale mica (answers typical of muscovite, from memory).
+    let r = app
+        .post_json(
+            "/api/v1/samples",
+            &json!({
+                "sample_code": "RX-1",
+                "station": "Ridge cut 5",
+                "notes": "Pale flakes in the quartz vein.",
+                "observations": {"cleavage": "one_perfect", "tenacity": "elastic", "colour": ["colourless"]},
+                "field_id": "muscovite"
+            })
+            .to_string(),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::CREATED, "{}", r.text());
+    let id = r.json()["id"].as_str().expect("id").to_string();
+    let record = s.get(&format!("/samples/{id}")).await.text();
+    assert!(record.contains(&format!("action=\"/samples/{id}/reexamine\"")));
+
+    // A forged start changes nothing and starts no draft.
+    let forged = s
+        .post_form(&format!("/samples/{id}/reexamine"), "_csrf=wrong")
+        .await;
+    assert_eq!(forged.status, StatusCode::FORBIDDEN);
+
+    let r = s.submit(&format!("/samples/{id}/reexamine"), "").await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let url = r.location();
+    let draft = url
+        .strip_prefix("/identify/")
+        .expect("a draft URL")
+        .to_string();
+    let question = s.get(&url).await.text();
+    assert!(
+        question.contains("Testing a saved sample again"),
+        "{question}"
+    );
+    assert!(question.contains(&format!("href=\"/samples/{id}\"")));
+    // The saved answers are the starting point.
+    let all = s.get(&format!("{url}/all")).await.text();
+    assert!(all.contains("value=\"one_perfect\" checked"), "{all}");
+
+    // Looked at again: dark, a book of flakes, with a copper-coin scratch
+    // (typical of biotite, from memory).
+    let r = s
+        .submit(
+            &format!("{url}/all"),
+            "cleavage=one_perfect&tenacity=elastic&colour=black&colour=brown&luster=vitreous&habit=books\
+             &scratch_fingernail=false&scratch_copper=true&setting=granite",
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let results = s.get(&format!("{url}/results")).await.text();
+    let leader = first_entry(&results);
+    assert_eq!(leader, "biotite");
+    let into = format!("href=\"/samples/{id}/edit?draft={draft}\"");
+    assert!(results.contains(&into), "{results}");
+    assert!(results.contains("Put these into sample RX-1"));
+    assert!(results.contains(&format!("href=\"/samples/new?draft={draft}\"")));
+
+    // Nothing is changed until the edit form is saved.
+    assert_eq!(
+        app.get(&format!("/api/v1/samples/{id}")).await.json()["revision"],
+        1
+    );
+    let edit = s.get(&format!("/samples/{id}/edit?draft={draft}")).await;
+    assert_eq!(edit.status, StatusCode::OK);
+    let html = edit.text();
+    assert!(html.contains("come from the tests you just went through"));
+    assert_eq!(selected(&html, "field_id").as_deref(), Some("biotite"));
+    assert_eq!(selected(&html, "setting").as_deref(), Some("granite"));
+    assert_eq!(
+        input_value(&html, "station").as_deref(),
+        Some("Ridge cut 5")
+    );
+    assert_eq!(input_value(&html, "revision").as_deref(), Some("1"));
+    let obs = input_value(&html, "observations").expect("hidden observations");
+    let r = s
+        .submit(
+            &format!("/samples/{id}/edit"),
+            &encode(&[
+                ("revision", "1"),
+                ("project", "default"),
+                ("sample_code", "RX-1"),
+                ("station", "Ridge cut 5"),
+                ("setting", "granite"),
+                ("notes", "Pale flakes in the quartz vein."),
+                ("field_id", "biotite"),
+                ("observations", &obs),
+                ("edited_by", "Field crew B"),
+            ]),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let api = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    assert_eq!(api["revision"], 2);
+    assert_eq!(api["field_id"], "biotite");
+    assert_eq!(api["observations"]["colour"], json!(["black", "brown"]));
+    assert_eq!(api["identification"]["candidates"][0]["id"], "biotite");
+    // The earlier answers and conclusion stay in the history.
+    let revs = app
+        .get(&format!("/api/v1/samples/{id}/revisions"))
+        .await
+        .json();
+    let first = &revs["revisions"].as_array().expect("revisions")[0]["record"];
+    assert_eq!(first["observations"]["colour"], json!(["colourless"]));
+    assert_eq!(first["field_id"], "muscovite");
+    // An unknown draft in the edit link is a 404 page, not a silent blank.
+    let missing = s
+        .get(&format!(
+            "/samples/{id}/edit?draft=00000000-0000-4000-8000-000000000000"
+        ))
+        .await;
+    assert_eq!(missing.status, StatusCode::NOT_FOUND);
+}
