@@ -376,7 +376,8 @@ fn row(
         .validate(|id| base.entry(id).is_some())
         .map_err(|e| err(line, &e.field, e.message))?;
     // A snapshot from the file is read in full (so a damaged one is
-    // refused here) and then kept as the file's own text.
+    // refused here) and stored as the service writes it, so every stored
+    // document has the one shape whatever the file's spacing or extras.
     let snapshot = match cells.get("identification") {
         Some(json) => {
             let identification: Identification = serde_json::from_str(json).map_err(|e| {
@@ -386,7 +387,7 @@ fn row(
                     format!("not an identification as the export writes it: {e}"),
                 )
             })?;
-            Packed::json(&identification.base_version, json)
+            Packed::of(&identification)
         }
         None => Packed::of(&engine.identify(&sample.observations)),
     };

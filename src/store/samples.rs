@@ -150,16 +150,9 @@ impl Packed {
     pub fn of(identification: &Identification) -> Packed {
         // Serialising a plain data struct into a String cannot fail.
         let json = serde_json::to_string(identification).unwrap_or_default();
-        Packed::json(&identification.base_version, &json)
-    }
-
-    /// Packs a JSON document that has already been checked to read as an
-    /// identification with this base version (an import keeps the file's
-    /// own text rather than writing it out again).
-    pub fn json(base_version: &str, json: &str) -> Packed {
         Packed {
-            base_version: base_version.to_string(),
-            body: pack(json),
+            base_version: identification.base_version.clone(),
+            body: pack(&json),
         }
     }
 }
@@ -230,6 +223,15 @@ impl Row {
     }
 
     fn into_record(self) -> Result<(i64, SampleRecord), StoreError> {
+        self.into_record_as()
+    }
+
+    /// The record, with its identification read as `I`: the whole
+    /// identify response, the stored JSON as it is ([`Raw`]), or only what
+    /// a summary needs ([`Leader`]).
+    fn into_record_as<I: serde::de::DeserializeOwned>(
+        self,
+    ) -> Result<(i64, SampleRecord<I>), StoreError> {
         let setting = match self.setting.as_deref() {
             None => None,
             Some(s) => Some(
@@ -1022,11 +1024,64 @@ pub struct Filter {
     pub q: Option<String>,
 }
 
+/// The stored identification JSON, passed through untouched (a list
+/// response sends it on without reading it into the engine's types and
+/// writing it out again, which was most of the cost of a page).
+pub type Raw = Box<serde_json::value::RawValue>;
+
+/// The leading candidate of a stored identification, read without the
+/// rest of the document (the history page shows only this).
+#[derive(Clone, Debug, PartialEq, Deserialize)]
+pub struct Lead {
+    /// Entry id.
+    pub id: String,
+    /// Entry name.
+    pub name: String,
+    /// Its probability.
+    pub probability: f64,
+}
+
+/// What a summary reads of a stored identification: the first candidate,
+/// when there is one. The other candidates are skipped, not built.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Leader(pub Option<Lead>);
+
+impl<'de> Deserialize<'de> for Leader {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct First(Option<Lead>);
+        impl<'de> Deserialize<'de> for First {
+            fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+                struct V;
+                impl<'de> serde::de::Visitor<'de> for V {
+                    type Value = First;
+                    fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                        f.write_str("a list of candidates")
+                    }
+                    fn visit_seq<A: serde::de::SeqAccess<'de>>(
+                        self,
+                        mut seq: A,
+                    ) -> Result<First, A::Error> {
+                        let first = seq.next_element::<Lead>()?;
+                        while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {}
+                        Ok(First(first))
+                    }
+                }
+                d.deserialize_seq(V)
+            }
+        }
+        #[derive(Deserialize)]
+        struct Doc {
+            candidates: First,
+        }
+        Doc::deserialize(d).map(|doc| Leader(doc.candidates.0))
+    }
+}
+
 /// A page of records, newest first.
 #[derive(Clone, Debug, PartialEq, Serialize)]
-pub struct Page {
+pub struct Page<I = Identification> {
     /// The records.
-    pub samples: Vec<SampleRecord>,
+    pub samples: Vec<SampleRecord<I>>,
     /// Cursor of the following page, if any.
     pub next_cursor: Option<String>,
 }
@@ -1101,6 +1156,17 @@ pub async fn list(
     limit: i64,
     cursor: Option<i64>,
 ) -> Result<Page, StoreError> {
+    list_as(pool, f, limit, cursor).await
+}
+
+/// [`list`], with each identification read as `I` ([`Raw`] for a
+/// response that passes it on, [`Leader`] for a summary).
+pub async fn list_as<I: serde::de::DeserializeOwned>(
+    pool: &SqlitePool,
+    f: &Filter,
+    limit: i64,
+    cursor: Option<i64>,
+) -> Result<Page<I>, StoreError> {
     // With free text, the full-text index is walked newest first and
     // joined to the records (CROSS JOIN makes SQLite keep it the outer
     // loop rather than probing it once per row of another index), so a page stops after `limit` matches instead
@@ -1135,7 +1201,7 @@ pub async fn list(
     let mut out = Vec::with_capacity(rows.len());
     let mut last_seq = None;
     for r in rows.into_iter().take(limit as usize + 1) {
-        let (seq, rec) = r.into_record()?;
+        let (seq, rec) = r.into_record_as()?;
         out.push((seq, rec));
     }
     let more = out.len() as i64 > limit;
@@ -1691,5 +1757,57 @@ mod tests {
             .expect("list");
         assert_eq!(page.samples.len(), 1);
         assert_eq!(snapshot_count(&pool).await, 1);
+    }
+
+    #[tokio::test]
+    async fn the_light_reads_of_a_page_agree_with_the_full_one() {
+        let (pool, _d) = pool().await;
+        let mut v = valid("LR-1", "dark books");
+        v.observations = obs(r#"{"cleavage":"one_perfect","colour":["black"]}"#);
+        let ident = Engine::builtin().identify(&v.observations);
+        create(
+            &pool,
+            NewState {
+                sample: &v,
+                identification: &ident,
+                author: None,
+            },
+            None,
+        )
+        .await
+        .expect("create");
+        add(&pool, "LR-2", "nothing observed").await;
+        let full = list(&pool, &Filter::default(), 10, None)
+            .await
+            .expect("full");
+        let raw = list_as::<Raw>(&pool, &Filter::default(), 10, None)
+            .await
+            .expect("raw");
+        let lead = list_as::<Leader>(&pool, &Filter::default(), 10, None)
+            .await
+            .expect("leader");
+        assert_eq!(full.samples.len(), 2);
+        for ((f, r), l) in full.samples.iter().zip(&raw.samples).zip(&lead.samples) {
+            let back: Identification = serde_json::from_str(r.identification.get()).expect("raw");
+            assert_eq!(back, f.identification);
+            let first = &f.identification.candidates[0];
+            assert_eq!(
+                l.identification,
+                Leader(Some(Lead {
+                    id: first.id.to_string(),
+                    name: first.name.to_string(),
+                    probability: first.probability,
+                }))
+            );
+            assert_eq!(l.clone().with_identification(()), f.head());
+        }
+        // The same JSON as the full record writes, field for field.
+        assert_eq!(
+            serde_json::to_value(&raw).expect("raw json"),
+            serde_json::to_value(&full).expect("full json")
+        );
+        let none: Leader =
+            serde_json::from_str(r#"{"candidates":[],"outside_base":1.0}"#).expect("empty");
+        assert_eq!(none, Leader(None));
     }
 }

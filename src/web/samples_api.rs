@@ -380,7 +380,8 @@ pub fn parse_query(raw: Option<&str>) -> std::result::Result<ListQuery, FieldErr
 /// `GET /api/v1/samples`: newest first, with `next_cursor`.
 async fn list(State(st): State<AppState>, RawQuery(raw): RawQuery) -> Result<impl IntoResponse> {
     let q = parse_query(raw.as_deref()).map_err(ApiError::Invalid)?;
-    let page = db::list(&st.db, &q.filter, q.limit, q.cursor).await?;
+    // The stored identifications go out as they were written.
+    let page = db::list_as::<db::Raw>(&st.db, &q.filter, q.limit, q.cursor).await?;
     Ok(Json(page))
 }
 

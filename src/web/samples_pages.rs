@@ -1505,7 +1505,7 @@ pub struct SampleLine {
     pub leader: String,
 }
 
-fn line(st: &AppState, r: &SampleRecord) -> SampleLine {
+fn line(st: &AppState, r: &db::SampleRecord<db::Leader>) -> SampleLine {
     let t = |v: &Option<String>| v.clone().unwrap_or_default();
     SampleLine {
         id: r.id.clone(),
@@ -1520,8 +1520,8 @@ fn line(st: &AppState, r: &SampleRecord) -> SampleLine {
             .map_or_else(|| "not identified".to_string(), |f| entry_name(st, f)),
         leader: r
             .identification
-            .candidates
-            .first()
+            .0
+            .as_ref()
             .filter(|_| !r.observations.is_empty())
             .map_or_else(
                 || "nothing observed".to_string(),
@@ -1620,7 +1620,9 @@ async fn history(State(st): State<AppState>, RawQuery(raw): RawQuery) -> PageRes
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response());
         }
     };
-    let list = db::list(&st.db, &q.filter, q.limit, q.cursor).await?;
+    // A line shows only the stored leader: the rest of each snapshot is
+    // skipped, not read.
+    let list = db::list_as::<db::Leader>(&st.db, &q.filter, q.limit, q.cursor).await?;
     page.query = filter_query(&q.filter);
     page.filtered = q.filter != Filter::default();
     page.later_page = q.cursor.is_some();
