@@ -595,11 +595,56 @@ pub async fn import_all(
     author: Option<&str>,
     progress: &(dyn Fn(u64) + Sync),
 ) -> Result<usize, WriteError> {
-    let mut tx = super::write_tx(pool).await?;
+    // A bulk write touches far more pages than SQLite's default cache of
+    // 2 MB holds; with a small cache it spills dirty pages into the WAL in
+    // the middle of the transaction and reads them back from there. So the
+    // import runs on a connection of its own with a larger cache, set back
+    // before the connection returns to the pool.
+    let mut conn = pool.acquire().await.context("taking a connection")?;
+    sqlx::query(sqlx::AssertSqlSafe(format!(
+        "PRAGMA cache_size = -{IMPORT_CACHE_KIB}"
+    )))
+    .execute(&mut *conn)
+    .await
+    .context("sizing the cache for an import")?;
+    let outcome = async {
+        // The same BEGIN IMMEDIATE as `write_tx`, on this connection.
+        let mut tx = sqlx::Connection::begin_with(&mut *conn, "BEGIN IMMEDIATE")
+            .await
+            .context("starting a write transaction")?;
+        let n = import_batches(&mut tx, items, author, progress).await?;
+        tx.commit().await.context("committing the import")?;
+        Ok::<usize, WriteError>(n)
+    }
+    .await;
+    let reset = sqlx::query(sqlx::AssertSqlSafe(format!(
+        "PRAGMA cache_size = {SQLITE_DEFAULT_CACHE}"
+    )))
+    .execute(&mut *conn)
+    .await;
+    if reset.is_err() {
+        // Never hand a connection with a 256 MB cache back to the pool.
+        conn.detach();
+    }
+    outcome
+}
+
+/// The page cache asked for by an import, KiB.
+const IMPORT_CACHE_KIB: i64 = 256 * 1024;
+
+/// SQLite's default `cache_size` (2,000 KiB).
+const SQLITE_DEFAULT_CACHE: i64 = -2000;
+
+async fn import_batches(
+    tx: &mut sqlx::Transaction<'_, Sqlite>,
+    items: &[ImportItem],
+    author: Option<&str>,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<usize, WriteError> {
     let (now, last_snapshot): (String, i64) = sqlx::query_as(sqlx::AssertSqlSafe(format!(
         "SELECT {NOW}, COALESCE((SELECT MAX(id) FROM snapshots), 0)"
     )))
-    .fetch_one(&mut *tx)
+    .fetch_one(&mut **tx)
     .await
     .context("starting an import")?;
     let mut next_snapshot = last_snapshot + 1;
@@ -668,7 +713,7 @@ pub async fn import_all(
                 .push_bind(&p.item.snapshot.body);
         });
         qb.build()
-            .execute(&mut *tx)
+            .execute(&mut **tx)
             .await
             .context("storing imported snapshots")?;
         let mut qb: QueryBuilder<Sqlite> = QueryBuilder::new(
@@ -698,7 +743,7 @@ pub async fn import_all(
                 .push_bind(p.snapshot)
                 .push_bind(&h.base_version);
         });
-        qb.build().execute(&mut *tx).await.map_err(|e| {
+        qb.build().execute(&mut **tx).await.map_err(|e| {
             if e.as_database_error()
                 .is_some_and(|d| d.kind() == sqlx::error::ErrorKind::UniqueViolation)
             {
@@ -729,13 +774,12 @@ pub async fn import_all(
                 .push_bind(p.snapshot);
         });
         qb.build()
-            .execute(&mut *tx)
+            .execute(&mut **tx)
             .await
             .context("appending imported revisions")?;
         written += batch.len() as u64;
         progress(written);
     }
-    tx.commit().await.context("committing the import")?;
     Ok(items.len())
 }
 
@@ -1733,6 +1777,20 @@ mod tests {
             ),
             (4, "2025-08-01T10:00:00.000Z", "2025-08-03T11:30:00.000Z")
         );
+        // The import's large page cache stays with the import: every
+        // connection in the pool is back at SQLite's default.
+        let mut held = Vec::new();
+        for _ in 0..pool.size() {
+            held.push(pool.acquire().await.expect("connection"));
+        }
+        for c in &mut held {
+            let kib: i64 = sqlx::query_scalar("PRAGMA cache_size")
+                .fetch_one(&mut **c)
+                .await
+                .expect("pragma");
+            assert_eq!(kib, SQLITE_DEFAULT_CACHE);
+        }
+        drop(held);
         // Rows without times share the import's own time.
         let stamps: std::collections::HashSet<&str> = page.samples[..n]
             .iter()
