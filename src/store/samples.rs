@@ -485,6 +485,41 @@ pub struct Kept {
     pub updated_at: Option<String>,
 }
 
+/// A new live record of these fields; `times` is (created, updated,
+/// revision).
+fn fresh<I>(
+    id: String,
+    v: &ValidSample,
+    times: (String, String, i64),
+    identification: I,
+    base_version: &str,
+) -> SampleRecord<I> {
+    let (created_at, updated_at, revision) = times;
+    SampleRecord {
+        id,
+        project: v.project.clone(),
+        sample_code: v.sample_code.clone(),
+        collected_on: v.collected_on.clone(),
+        collector: v.collector.clone(),
+        station: v.station.clone(),
+        latitude: v.latitude,
+        longitude: v.longitude,
+        coordinate_uncertainty_m: v.coordinate_uncertainty_m,
+        setting: v.setting,
+        lithology: v.lithology.clone(),
+        observations: v.observations.clone(),
+        field_id: v.field_id.clone(),
+        notes: v.notes.clone(),
+        created_at,
+        updated_at,
+        revision,
+        identification,
+        base_version: base_version.to_string(),
+        deleted: false,
+        deleted_at: None,
+    }
+}
+
 /// Inserts one record and its first revision inside `tx`.
 pub async fn insert_in(
     tx: &mut sqlx::Transaction<'_, Sqlite>,
@@ -537,29 +572,13 @@ pub async fn insert_in(
             .fetch_one(&mut **tx)
             .await
             .map_err(|e| classify(e, v))?;
-    let rec = SampleRecord {
+    let rec = fresh(
         id,
-        project: v.project.clone(),
-        sample_code: v.sample_code.clone(),
-        collected_on: v.collected_on.clone(),
-        collector: v.collector.clone(),
-        station: v.station.clone(),
-        latitude: v.latitude,
-        longitude: v.longitude,
-        coordinate_uncertainty_m: v.coordinate_uncertainty_m,
-        setting: v.setting,
-        lithology: v.lithology.clone(),
-        observations: v.observations.clone(),
-        field_id: v.field_id.clone(),
-        notes: v.notes.clone(),
-        created_at,
-        updated_at,
-        revision,
-        identification: s.identification.clone(),
-        base_version: s.identification.base_version.clone(),
-        deleted: false,
-        deleted_at: None,
-    };
+        v,
+        (created_at, updated_at, revision),
+        s.identification.clone(),
+        &s.identification.base_version,
+    );
     append_revision(tx, &rec, snapshot, s.author, action).await?;
     Ok(rec)
 }
@@ -673,29 +692,13 @@ async fn import_batches(
                 .unwrap_or_else(|| created_at.clone());
             let observations = serde_json::to_string(&v.observations)
                 .map_err(|e| WriteError::Store(corrupt(&id, "observations", e)))?;
-            let head = SampleRecord {
-                id: id.clone(),
-                project: v.project.clone(),
-                sample_code: v.sample_code.clone(),
-                collected_on: v.collected_on.clone(),
-                collector: v.collector.clone(),
-                station: v.station.clone(),
-                latitude: v.latitude,
-                longitude: v.longitude,
-                coordinate_uncertainty_m: v.coordinate_uncertainty_m,
-                setting: v.setting,
-                lithology: v.lithology.clone(),
-                observations: v.observations.clone(),
-                field_id: v.field_id.clone(),
-                notes: v.notes.clone(),
-                created_at,
-                updated_at,
-                revision: it.keep.revision.unwrap_or(1),
-                identification: (),
-                base_version: it.snapshot.base_version.clone(),
-                deleted: false,
-                deleted_at: None,
-            };
+            let head = fresh(
+                id.clone(),
+                v,
+                (created_at, updated_at, it.keep.revision.unwrap_or(1)),
+                (),
+                &it.snapshot.base_version,
+            );
             batch.push(Prepared {
                 item: it,
                 id,
