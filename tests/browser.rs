@@ -355,6 +355,17 @@ async fn perform(c: &Client, act: &Act) {
     }
 }
 
+/// Whether an error says the element's document has been replaced.
+/// Chromium reports it as a stale element reference, or, when the old
+/// document is torn down mid-call, as an inspector error about the node.
+fn is_gone(e: &fantoccini::error::CmdError) -> bool {
+    if e.is_stale_element_reference() {
+        return true;
+    }
+    let text = e.to_string();
+    text.contains("does not belong to the document") || text.contains("No node with given id")
+}
+
 /// Clicks what `css` selects and waits until the browser holds a new,
 /// fully parsed document. The URL alone cannot tell: answering a question
 /// posts to the draft's URL and is redirected back to the same URL. So
@@ -374,7 +385,7 @@ async fn click_and_wait_for_next_page(c: &Client, css: &str) {
     let deadline = Instant::now() + PAGE_WAIT;
     loop {
         match old_root.tag_name().await {
-            Err(e) if e.is_stale_element_reference() => break,
+            Err(e) if is_gone(&e) => break,
             Ok(_) => {}
             Err(e) => panic!("waiting for the page after {css}: {e}"),
         }
