@@ -11,11 +11,11 @@ use std::collections::HashSet;
 
 use crate::engine::input::{describe_observation_field, object_from_json};
 use crate::engine::{Engine, Identification, Observations};
+use crate::samples::{SampleInput, valid_project_code};
+use crate::store::samples::{ImportItem, Kept, Packed};
 
 /// Rows handed to a checking thread at a time.
 const CHUNK: usize = 64;
-use crate::samples::{SampleInput, valid_project_code};
-use crate::store::samples::{ImportItem, Kept, Packed};
 
 /// Columns read from the file: the export's (its two convenience columns,
 /// the top candidate, are accepted and ignored).
@@ -238,7 +238,8 @@ fn check_rows(
 /// Line numbers of record starts, counted as the file is read.
 ///
 /// The csv reader's own line count lags by one after a CRLF line end (it
-/// ends the record at the CR and counts the LF with the next record), and
+/// ends the record at the CR and counts the LF with the next record, and
+/// blank lines are reported with the record after them), and
 /// RFC 4180 files, the export's among them, end their lines with CRLF. So
 /// the line is counted here from the record's byte offset.
 #[derive(Default)]
@@ -252,8 +253,10 @@ impl Lines {
     /// only grow as the file is read).
     fn at(&mut self, data: &[u8], byte: u64) -> u64 {
         let mut start = usize::try_from(byte).unwrap_or(usize::MAX).min(data.len());
-        // The LF of the previous line's CRLF belongs to that line.
-        if data.get(start) == Some(&b'\n') {
+        // The reader may report the record from where it stopped: the LF
+        // of the previous line's CRLF, or blank lines it skipped. None of
+        // those bytes can begin a record, so the record begins after them.
+        while matches!(data.get(start), Some(b'\n' | b'\r')) {
             start += 1;
         }
         let from = self.byte.min(start);
@@ -579,13 +582,14 @@ mod tests {
     #[test]
     fn lines_are_counted_the_same_with_crlf_and_lf_and_across_quoted_line_breaks() {
         let lf =
-            "sample_code,notes,latitude,longitude\nA1,,1,1\nA2,\"two\nlines\",95,1\nA3,,96,1\n";
+            "sample_code,notes,latitude,longitude\nA1,,1,1\nA2,\"two\nlines\",95,1\n\nA3,,96,1\n";
         let crlf = lf.replace('\n', "\r\n");
         for csv in [lf.to_string(), crlf] {
             let c = run(&csv);
             let lines: Vec<u64> = c.errors.iter().map(|e| e.line).collect();
-            // A2 starts on line 3 and spans two lines; A3 is on line 5.
-            assert_eq!(lines, vec![3, 5], "{csv:?}");
+            // A2 starts on line 3 and spans two lines; after a blank
+            // line, A3 is on line 6.
+            assert_eq!(lines, vec![3, 6], "{csv:?}");
             assert_eq!(c.lines, vec![2]);
         }
     }

@@ -385,10 +385,10 @@ pub struct Revision {
 
 /// The revision document of a state: every field but the identification,
 /// which the revision's snapshot holds.
-fn revision_body(rec: &SampleRecord) -> Result<Vec<u8>, StoreError> {
-    serde_json::to_string(&rec.head())
+fn revision_body(head: &SampleRecord<()>) -> Result<Vec<u8>, StoreError> {
+    serde_json::to_string(head)
         .map(|j| pack(&j))
-        .map_err(|e| corrupt(&rec.id, "sample record", e))
+        .map_err(|e| corrupt(&head.id, "sample record", e))
 }
 
 async fn append_revision(
@@ -407,7 +407,7 @@ async fn append_revision(
     .bind(&rec.updated_at)
     .bind(author)
     .bind(action.as_str())
-    .bind(revision_body(rec)?)
+    .bind(revision_body(&rec.head())?)
     .bind(snapshot)
     .execute(&mut **tx)
     .await
@@ -760,9 +760,7 @@ async fn import_batches(
         })?;
         let mut bodies = Vec::with_capacity(batch.len());
         for p in &batch {
-            let json = serde_json::to_string(&p.head)
-                .map_err(|e| WriteError::Store(corrupt(&p.id, "sample record", e)))?;
-            bodies.push(pack(&json));
+            bodies.push(revision_body(&p.head)?);
         }
         let mut qb: QueryBuilder<Sqlite> = QueryBuilder::new(
             "INSERT INTO sample_revisions (sample_id, revision, recorded_at, author, action, record, snapshot) ",
