@@ -175,10 +175,7 @@ async fn main() {
     let state = basal::web::AppState {
         db: pool.clone(),
         engine,
-        config: Arc::new(basal::cli::Config {
-            listen: "127.0.0.1:0".parse().expect("addr"),
-            db: path.clone(),
-        }),
+        config: Arc::new(basal::cli::Config::new("127.0.0.1:0".parse().expect("addr"), path.clone())),
     };
     let app = basal::web::app(state);
     let queries = [
@@ -259,10 +256,7 @@ async fn main() {
         std::fs::copy(&csv_path, &keep).expect("keep the csv");
     }
     let fresh = dir.path().join("import.sqlite");
-    let config = basal::cli::Config {
-        listen: "127.0.0.1:0".parse().expect("addr"),
-        db: fresh,
-    };
+    let config = basal::cli::Config::new("127.0.0.1:0".parse().expect("addr"), fresh);
     let t = Instant::now();
     let report = basal::cli::import(&config, &csv_path, "bench", false, None)
         .await

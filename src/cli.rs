@@ -73,6 +73,44 @@ pub struct ServeArgs {
     /// (on Linux $XDG_DATA_HOME/basal, usually ~/.local/share/basal).
     #[arg(long, env = "BASAL_DB", global = true)]
     pub db: Option<PathBuf>,
+    /// The time zone where the people using this service are, as an IANA
+    /// name such as Pacific/Auckland or Europe/Oslo: it gives "today" for
+    /// new samples and the offset beside every time shown (a browser does
+    /// not send its own). Default: this computer's zone (TZ, or
+    /// /etc/localtime). Times are stored in UTC whatever the zone.
+    #[arg(
+        long,
+        env = "BASAL_TZ",
+        value_name = "IANA_NAME",
+        value_parser = parse_time_zone,
+        global = true
+    )]
+    pub time_zone: Option<jiff::tz::TimeZone>,
+}
+
+/// Reads an IANA time zone name (`--time-zone`, `BASAL_TZ`).
+pub fn parse_time_zone(name: &str) -> Result<jiff::tz::TimeZone, String> {
+    let n = name.trim();
+    if n.is_empty() {
+        return Err("give an IANA time zone name such as Pacific/Auckland or UTC".into());
+    }
+    jiff::tz::TimeZone::get(n).map_err(|_| {
+        format!(
+            "\"{n}\" is not a time zone of the IANA database; give a name such as Pacific/Auckland, \
+             America/Santiago, Europe/Oslo or UTC (region/city, as in /usr/share/zoneinfo)"
+        )
+    })
+}
+
+/// What time it is: the system's clock, or a fixed instant (tests, so that
+/// "today" does not depend on when they run).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub enum Clock {
+    /// The system clock.
+    #[default]
+    System,
+    /// Always this instant.
+    Fixed(jiff::Timestamp),
 }
 
 /// The configuration the service runs with.
@@ -82,15 +120,47 @@ pub struct Config {
     pub listen: SocketAddr,
     /// Database file.
     pub db: PathBuf,
+    /// Where the people are: "today" and the times shown are in this zone.
+    pub time_zone: jiff::tz::TimeZone,
+    /// Where "now" comes from.
+    pub clock: Clock,
+}
+
+impl Config {
+    /// A configuration on `listen` and `db`, in this computer's time zone
+    /// on the system clock; set the other fields after, as needed.
+    pub fn new(listen: SocketAddr, db: PathBuf) -> Config {
+        Config {
+            listen,
+            db,
+            time_zone: jiff::tz::TimeZone::system(),
+            clock: Clock::System,
+        }
+    }
+
+    /// Now, in the configured zone.
+    pub fn now(&self) -> jiff::ZonedDateTime {
+        let t = match self.clock {
+            Clock::System => jiff::Timestamp::now(),
+            Clock::Fixed(t) => t,
+        };
+        t.to_zoned_datetime(self.time_zone.clone())
+    }
+
+    /// Today's date where the people are.
+    pub fn today(&self) -> jiff::civil::Date {
+        self.now().date()
+    }
 }
 
 impl ServeArgs {
     /// Resolves defaults into a [`Config`].
     pub fn config(&self) -> Config {
-        Config {
-            listen: self.listen,
-            db: self.db.clone().unwrap_or_else(default_db_path),
+        let mut c = Config::new(self.listen, self.db.clone().unwrap_or_else(default_db_path));
+        if let Some(z) = &self.time_zone {
+            c.time_zone = z.clone();
         }
+        c
     }
 }
 
@@ -231,10 +301,10 @@ mod tests {
     #[tokio::test]
     async fn a_backup_is_a_consistent_copy_and_never_overwrites() {
         let dir = tempfile::tempdir().expect("tempdir");
-        let config = Config {
-            listen: "127.0.0.1:0".parse().expect("addr"),
-            db: dir.path().join("live.sqlite"),
-        };
+        let config = Config::new(
+            "127.0.0.1:0".parse().expect("addr"),
+            dir.path().join("live.sqlite"),
+        );
         let added = demo(&config).await.expect("demo");
         assert!(added >= 10);
         assert_eq!(
@@ -258,10 +328,10 @@ mod tests {
     #[tokio::test]
     async fn an_export_imports_into_an_empty_database_as_the_same_records() {
         let dir = tempfile::tempdir().expect("tempdir");
-        let first = Config {
-            listen: "127.0.0.1:0".parse().expect("addr"),
-            db: dir.path().join("a.sqlite"),
-        };
+        let first = Config::new(
+            "127.0.0.1:0".parse().expect("addr"),
+            dir.path().join("a.sqlite"),
+        );
         demo(&first).await.expect("demo");
         let pool = crate::store::open(&first.db).await.expect("open");
         let filter = crate::store::samples::Filter {
@@ -282,10 +352,7 @@ mod tests {
         let file = dir.path().join("export.csv");
         std::fs::write(&file, w.into_inner().expect("csv")).expect("write");
 
-        let second = Config {
-            listen: first.listen,
-            db: dir.path().join("b.sqlite"),
-        };
+        let second = Config::new(first.listen, dir.path().join("b.sqlite"));
         let dry = import(&second, &file, "demo", true, None)
             .await
             .expect("dry run");
@@ -320,6 +387,27 @@ mod tests {
             .await
             .expect("checked");
         assert_eq!((again.written, again.errors.len()), (0, before.len()));
+    }
+
+    #[test]
+    fn the_time_zone_is_an_iana_name_and_a_bad_one_is_refused_at_start() {
+        let cli = Cli::try_parse_from(["basal", "serve", "--time-zone", "Pacific/Auckland"])
+            .expect("parses");
+        let cfg = cli.serve.config();
+        assert_eq!(cfg.time_zone.iana_name(), Some("Pacific/Auckland"));
+        // 2026-12-04 12:30 UTC is 01:30 on the 5th in Auckland (NZDT, UTC+13;
+        // arithmetic from the IANA rules).
+        let cfg = Config {
+            clock: Clock::Fixed("2026-12-04T12:30:00Z".parse().expect("instant")),
+            ..cfg
+        };
+        assert_eq!(cfg.today().to_string(), "2026-12-05");
+        for bad in ["Pacific/Aukland", "Mars/Olympus_Mons", "", "+13"] {
+            let err = Cli::try_parse_from(["basal", "--time-zone", bad]).expect_err(bad);
+            let text = err.to_string();
+            assert!(text.contains("--time-zone"), "{bad}: {text}");
+            assert!(text.contains("Pacific/Auckland"), "{bad}: {text}");
+        }
     }
 
     #[test]

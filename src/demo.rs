@@ -236,7 +236,7 @@ pub async fn load(pool: &SqlitePool, engine: &Engine) -> Result<usize, WriteErro
             ..Default::default()
         };
         let v = input
-            .validate(|id| engine.base().entry(id).is_some())
+            .validate(|id| engine.base().entry(id).is_some(), None)
             .map_err(|e| {
                 WriteError::Store(crate::store::StoreError::Corrupt {
                     what: "demo sample",

@@ -376,7 +376,9 @@ fn row(
         ..Default::default()
     };
     let sample = input
-        .validate(|id| base.entry(id).is_some())
+        // No "today" here: a file keeps the dates it was written with
+        // (another laptop's zone may already be a day ahead).
+        .validate(|id| base.entry(id).is_some(), None)
         .map_err(|e| err(line, &e.field, e.message))?;
     // A snapshot from the file is read in full (so a damaged one is
     // refused here) and stored as the service writes it, so every stored

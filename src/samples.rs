@@ -1,10 +1,18 @@
 //! Sample records of the log: the contract's fields, validated.
 //!
 //! Pure domain code (no I/O, no axum, no sqlx): the web layer parses a
-//! request into [`SampleInput`], [`SampleInput::validate`] checks every
-//! field and names the first one that is wrong, and the store saves the
+//! request into [`SampleInput`], [`SampleInput::check`] checks every
+//! field and names every one that is wrong ([`SampleInput::validate`] the
+//! first, for the JSON API's one-error shape), and the store saves the
 //! resulting [`ValidSample`] with its identification snapshot.
+//!
+//! "Today" comes in as a parameter (the date where the person is, which
+//! the web layer computes from its configured time zone), so a collection
+//! date in the future is refused here and the check stays pure. Typed
+//! coordinates in degrees, minutes and seconds are read by
+//! [`parse_coordinate`]; the records keep WGS 84 decimal degrees.
 
+use jiff::civil::Date;
 use serde::{Deserialize, Serialize};
 
 use crate::base::vocab::Setting;
@@ -194,6 +202,234 @@ pub fn dms(value: f64, positive: char, negative: char) -> String {
     format!("{deg:.0}°{min:02.0}′{sec:04.1}″ {hemi}")
 }
 
+/// Which coordinate a typed value is: it decides the hemisphere letters
+/// and the range.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Axis {
+    /// North–south, −90 to 90, letters N and S.
+    Latitude,
+    /// East–west, −180 to 180, letters E and W.
+    Longitude,
+}
+
+impl Axis {
+    fn name(self) -> &'static str {
+        match self {
+            Axis::Latitude => "latitude",
+            Axis::Longitude => "longitude",
+        }
+    }
+
+    fn limit(self) -> f64 {
+        match self {
+            Axis::Latitude => 90.0,
+            Axis::Longitude => 180.0,
+        }
+    }
+
+    /// (positive letter, negative letter).
+    fn letters(self) -> (char, char) {
+        match self {
+            Axis::Latitude => ('N', 'S'),
+            Axis::Longitude => ('E', 'W'),
+        }
+    }
+
+    /// The forms [`parse_coordinate`] reads, for messages.
+    pub fn accepted_forms(self) -> String {
+        let (p, n) = self.letters();
+        let (d, m, s) = match self {
+            Axis::Latitude => ("41", "30", "18"),
+            Axis::Longitude => ("172", "38", "05"),
+        };
+        format!(
+            "decimal degrees (−{d}.505 or {d}.505 {n}), degrees and decimal minutes ({d} {m}.3 {n} or \
+             {d}°{m}.300′{n}) or degrees, minutes and seconds ({d} {m} {s} {n}, {d}°{m}′{s}″{n}, {n}{d} {m} {s} \
+             or −{d} {m} {s}); the letter is {p} or {n}, minutes and seconds are below 60"
+        )
+    }
+}
+
+/// What a mark after a number says it is.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Mark {
+    Degrees,
+    Minutes,
+    Seconds,
+}
+
+fn mark_of(c: char) -> Option<Mark> {
+    match c {
+        // Degree sign, and the ordinal and ring that keyboards offer in
+        // its place.
+        '°' | 'º' | '˚' => Some(Mark::Degrees),
+        // Apostrophe, prime, and the typographic quote that text editors
+        // put in for an apostrophe.
+        '\'' | '′' | '’' => Some(Mark::Minutes),
+        // Quotation mark, double prime, typographic closing quote.
+        '"' | '″' | '”' => Some(Mark::Seconds),
+        _ => None,
+    }
+}
+
+/// Reads a coordinate as people type it from a map or a field GPS unit:
+/// decimal degrees (`-41.505`, `41,505 S`), degrees and decimal minutes
+/// (`41 30.3 S`, `41°30.300'S`) or degrees, minutes and seconds
+/// (`41°30'18"S`, `41 30 18 S`, `41°30′18″S`, `S41 30 18`, `-41 30 18`),
+/// into WGS 84 decimal degrees, negative to the south and west. The
+/// hemisphere letter, before or after, must belong to the axis; a sign and
+/// a letter together, minutes or seconds of 60 or more, a fraction before
+/// the last number, and values beyond the axis's range are refused with a
+/// message that shows the accepted forms.
+pub fn parse_coordinate(raw: &str, axis: Axis) -> Result<f64, String> {
+    let t = raw.trim();
+    let refuse = |why: String| {
+        Err(format!(
+            "\"{t}\" cannot be read as a {}: {why}. Type {}",
+            axis.name(),
+            axis.accepted_forms()
+        ))
+    };
+    if t.is_empty() {
+        return refuse("it is empty".into());
+    }
+    let (pos, neg) = axis.letters();
+    let mut body: &str = t;
+    let mut negative = false;
+    let mut letter: Option<char> = None;
+    // A hemisphere letter at either end.
+    let first = body.chars().next().map(|c| c.to_ascii_uppercase());
+    let last = body.chars().next_back().map(|c| c.to_ascii_uppercase());
+    let is_hemi = |c: Option<char>| matches!(c, Some('N' | 'S' | 'E' | 'W'));
+    if is_hemi(first) {
+        letter = first;
+        body = &body[1..];
+    }
+    if is_hemi(last) && !body.is_empty() {
+        if letter.is_some() {
+            return refuse("it has a hemisphere letter at both ends; give one".into());
+        }
+        letter = last;
+        body = &body[..body.len() - 1];
+    }
+    if let Some(l) = letter {
+        if l == neg {
+            negative = true;
+        } else if l != pos {
+            let other = match axis {
+                Axis::Latitude => "a longitude (E or W)",
+                Axis::Longitude => "a latitude (N or S)",
+            };
+            return refuse(format!("{l} marks {other}"));
+        }
+    }
+    let mut body = body.trim();
+    if let Some(rest) = body
+        .strip_prefix('-')
+        .or_else(|| body.strip_prefix('−'))
+        .or_else(|| body.strip_prefix('+'))
+    {
+        if letter.is_some() {
+            return refuse(format!(
+                "it has both a sign and a hemisphere letter; give one (a letter {neg} or a minus sign)"
+            ));
+        }
+        negative = body.starts_with(['-', '−']);
+        body = rest.trim_start();
+    }
+    // Numbers, each with the mark after it, if any.
+    let mut parts: Vec<(String, Option<Mark>)> = Vec::new();
+    let mut current = String::new();
+    let mut current_open = false;
+    for c in body.chars() {
+        if c.is_ascii_digit() || c == '.' || c == ',' {
+            if !current_open {
+                current.clear();
+                current_open = true;
+            }
+            current.push(if c == ',' { '.' } else { c });
+        } else if c.is_whitespace() {
+            if current_open {
+                parts.push((std::mem::take(&mut current), None));
+                current_open = false;
+            }
+        } else if let Some(m) = mark_of(c) {
+            if current_open {
+                parts.push((std::mem::take(&mut current), Some(m)));
+                current_open = false;
+            } else if let Some(last) = parts.last_mut().filter(|p| p.1.is_none()) {
+                last.1 = Some(m);
+            } else {
+                return refuse(format!("the mark {c} follows no number"));
+            }
+        } else if c == '-' || c == '−' || c == '+' {
+            return refuse("a sign belongs only before the degrees".into());
+        } else {
+            return refuse(format!("\"{c}\" is not part of a coordinate"));
+        }
+    }
+    if current_open {
+        parts.push((current, None));
+    }
+    if parts.is_empty() {
+        return refuse("it has no number".into());
+    }
+    if parts.len() > 3 {
+        return refuse("it has more than three numbers".into());
+    }
+    let order = [Mark::Degrees, Mark::Minutes, Mark::Seconds];
+    let mut values = [0.0_f64; 3];
+    for (i, (text, mark)) in parts.iter().enumerate() {
+        if let Some(m) = mark
+            && *m != order[i]
+        {
+            let names = ["degrees", "minutes", "seconds"];
+            return refuse(format!(
+                "its number {} is marked as {} but stands where the {} go",
+                text,
+                names[order.iter().position(|o| o == m).unwrap_or(0)],
+                names[i]
+            ));
+        }
+        let well_formed = {
+            let mut pieces = text.split('.');
+            let whole = pieces.next().unwrap_or("");
+            let frac = pieces.next();
+            !whole.is_empty()
+                && pieces.next().is_none()
+                && frac.is_none_or(|f| !f.is_empty())
+        };
+        if !well_formed {
+            return refuse(format!("{text} is not a number"));
+        }
+        if text.contains('.') && i + 1 < parts.len() {
+            return refuse(format!(
+                "only the last number may have a fraction, but {text} is followed by more"
+            ));
+        }
+        values[i] = text
+            .parse::<f64>()
+            .map_err(|_| format!("{text} is not a number"))
+            .or_else(refuse)?;
+    }
+    let [d, m, s] = values;
+    if m >= 60.0 {
+        return refuse(format!("{m} minutes is not below 60"));
+    }
+    if s >= 60.0 {
+        return refuse(format!("{s} seconds is not below 60"));
+    }
+    let value = d + m / 60.0 + s / 3600.0;
+    if !value.is_finite() || value > axis.limit() {
+        return refuse(format!(
+            "a {} is at most {}° from the equator or the prime meridian",
+            axis.name(),
+            axis.limit()
+        ));
+    }
+    Ok(if negative { -value } else { value })
+}
+
 fn text(field: &str, v: &Option<String>, max: usize) -> Result<Option<String>, FieldError> {
     let Some(s) = v else { return Ok(None) };
     let t = s.trim();
@@ -211,10 +447,95 @@ fn text(field: &str, v: &Option<String>, max: usize) -> Result<Option<String>, F
     Ok(Some(t.to_string()))
 }
 
+/// Keeps the value of a field that passed, or notes its error.
+fn take<T>(r: Result<T, FieldError>, errors: &mut Vec<FieldError>) -> Option<T> {
+    r.map_err(|e| errors.push(e)).ok()
+}
+
 impl SampleInput {
     /// Validates every field; `known_entry` says whether an id names a base
-    /// entry. The first problem found is returned.
-    pub fn validate(&self, known_entry: impl Fn(&str) -> bool) -> Result<ValidSample, FieldError> {
+    /// entry, and `today` is the date where the person is (a collection
+    /// date after it is refused; `None` skips that check, for a file whose
+    /// dates were written elsewhere). The first problem found is returned:
+    /// the JSON API's error shape names one field.
+    pub fn validate(
+        &self,
+        known_entry: impl Fn(&str) -> bool,
+        today: Option<Date>,
+    ) -> Result<ValidSample, FieldError> {
+        self.check(known_entry, today)
+            .map_err(|all| {
+                all.into_iter()
+                    .next()
+                    .unwrap_or_else(|| FieldError::new("", "the record could not be read"))
+            })
+    }
+
+    /// Validates every field like [`SampleInput::validate`], and returns
+    /// every problem found (never an empty list), in form order, so that a
+    /// form can show each beside its field at once.
+    pub fn check(
+        &self,
+        known_entry: impl Fn(&str) -> bool,
+        today: Option<Date>,
+    ) -> Result<ValidSample, Vec<FieldError>> {
+        let mut errors = Vec::new();
+        let project = take(self.project_field(), &mut errors);
+        let sample_code = take(self.sample_code_field(), &mut errors);
+        let collected_on = take(self.collected_on_field(today), &mut errors);
+        let collector = take(text("collector", &self.collector, MAX_SHORT_TEXT), &mut errors);
+        let station = take(text("station", &self.station, MAX_SHORT_TEXT), &mut errors);
+        let position = take(self.position_field(), &mut errors);
+        let coordinate_uncertainty_m = take(self.uncertainty_field(), &mut errors);
+        let lithology = take(text("lithology", &self.lithology, MAX_SHORT_TEXT), &mut errors);
+        let observations = take(self.observations_field(), &mut errors);
+        let field_id = take(self.field_id_field(&known_entry), &mut errors);
+        let notes = take(text("notes", &self.notes, MAX_NOTES), &mut errors);
+        match (
+            project,
+            sample_code,
+            collected_on,
+            collector,
+            station,
+            position,
+            coordinate_uncertainty_m,
+            lithology,
+            observations,
+            field_id,
+            notes,
+        ) {
+            (
+                Some(project),
+                Some(sample_code),
+                Some(collected_on),
+                Some(collector),
+                Some(station),
+                Some((latitude, longitude)),
+                Some(coordinate_uncertainty_m),
+                Some(lithology),
+                Some(observations),
+                Some(field_id),
+                Some(notes),
+            ) if errors.is_empty() => Ok(ValidSample {
+                project,
+                sample_code,
+                collected_on,
+                collector,
+                station,
+                latitude,
+                longitude,
+                coordinate_uncertainty_m,
+                setting: self.setting,
+                lithology,
+                observations,
+                field_id,
+                notes,
+            }),
+            _ => Err(errors),
+        }
+    }
+
+    fn project_field(&self) -> Result<String, FieldError> {
         let project = match self.project.as_deref().map(str::trim) {
             None | Some("") => "default".to_string(),
             Some(p) if valid_project_code(p) => p.to_string(),
@@ -227,6 +548,10 @@ impl SampleInput {
                 ));
             }
         };
+        Ok(project)
+    }
+
+    fn sample_code_field(&self) -> Result<String, FieldError> {
         let sample_code = match self.sample_code.as_deref().map(str::trim) {
             None | Some("") => {
                 return Err(FieldError::new(
@@ -248,9 +573,26 @@ impl SampleInput {
             }
             Some(c) => c.to_string(),
         };
+        Ok(sample_code)
+    }
+
+    fn collected_on_field(&self, today: Option<Date>) -> Result<Option<String>, FieldError> {
         let collected_on = match self.collected_on.as_deref().map(str::trim) {
             None | Some("") => None,
-            Some(d) if valid_iso_date(d) => Some(d.to_string()),
+            Some(d) if valid_iso_date(d) => {
+                // ISO 8601 calendar dates of four-digit years sort as text.
+                if let Some(t) = today.map(|t| t.strftime("%Y-%m-%d").to_string())
+                    && d > t.as_str()
+                {
+                    return Err(FieldError::new(
+                        "collected_on",
+                        format!(
+                            "{d} is after today ({t}); a sample cannot be collected in the future"
+                        ),
+                    ));
+                }
+                Some(d.to_string())
+            }
             Some(d) => {
                 return Err(FieldError::new(
                     "collected_on",
@@ -260,6 +602,10 @@ impl SampleInput {
                 ));
             }
         };
+        Ok(collected_on)
+    }
+
+    fn position_field(&self) -> Result<(Option<f64>, Option<f64>), FieldError> {
         let coord = |field: &str,
                      v: Option<f64>,
                      lim: f64,
@@ -289,6 +635,10 @@ impl SampleInput {
                 "give latitude and longitude together, or neither",
             ));
         }
+        Ok((latitude, longitude))
+    }
+
+    fn uncertainty_field(&self) -> Result<Option<f64>, FieldError> {
         let coordinate_uncertainty_m = match self.coordinate_uncertainty_m {
             None => None,
             Some(u) if u.is_finite() && u > 0.0 && u <= MAX_UNCERTAINTY_M => Some(u),
@@ -299,6 +649,10 @@ impl SampleInput {
                 ));
             }
         };
+        Ok(coordinate_uncertainty_m)
+    }
+
+    fn observations_field(&self) -> Result<Observations, FieldError> {
         let observations = self.observations.clone().unwrap_or_default();
         if let Err(e) = observations.validate() {
             return Err(FieldError::new(
@@ -306,6 +660,10 @@ impl SampleInput {
                 e.message,
             ));
         }
+        Ok(observations)
+    }
+
+    fn field_id_field(&self, known_entry: impl Fn(&str) -> bool) -> Result<Option<String>, FieldError> {
         let field_id = match self.field_id.as_deref().map(str::trim) {
             None | Some("") => None,
             Some(id) if known_entry(id) => Some(id.to_string()),
@@ -318,21 +676,7 @@ impl SampleInput {
                 ));
             }
         };
-        Ok(ValidSample {
-            project,
-            sample_code,
-            collected_on,
-            collector: text("collector", &self.collector, MAX_SHORT_TEXT)?,
-            station: text("station", &self.station, MAX_SHORT_TEXT)?,
-            latitude,
-            longitude,
-            coordinate_uncertainty_m,
-            setting: self.setting,
-            lithology: text("lithology", &self.lithology, MAX_SHORT_TEXT)?,
-            observations,
-            field_id,
-            notes: text("notes", &self.notes, MAX_NOTES)?,
-        })
+        Ok(field_id)
     }
 }
 
@@ -350,11 +694,11 @@ mod tests {
             sample_code: Some(" BV-001 ".into()),
             ..Default::default()
         }
-        .validate(known)
+        .validate(known, None)
         .expect("valid");
         assert_eq!(s.project, "default");
         assert_eq!(s.sample_code, "BV-001");
-        let e = SampleInput::default().validate(known).expect_err("no code");
+        let e = SampleInput::default().validate(known, None).expect_err("no code");
         assert_eq!(e.field, "sample_code");
     }
 
@@ -397,7 +741,7 @@ mod tests {
                 longitude: lon,
                 ..base.clone()
             }
-            .validate(known)
+            .validate(known, None)
             .expect_err("bad");
             assert_eq!(e.field, field, "{lat:?} {lon:?}");
         }
@@ -406,7 +750,7 @@ mod tests {
             longitude: Some(180.0),
             ..base
         }
-        .validate(known);
+        .validate(known, None);
         assert!(ok.is_ok());
     }
 
@@ -421,14 +765,14 @@ mod tests {
                 field_id: Some("muscovite".into()),
                 ..base.clone()
             }
-            .validate(known)
+            .validate(known, None)
             .is_ok()
         );
         let e = SampleInput {
             field_id: Some("mica".into()),
             ..base
         }
-        .validate(known)
+        .validate(known, None)
         .expect_err("bad");
         assert_eq!(e.field, "field_id");
     }
@@ -442,7 +786,7 @@ mod tests {
             observations: Some(obs),
             ..Default::default()
         }
-        .validate(known)
+        .validate(known, None)
         .expect_err("bad");
         assert_eq!(e.field, "observations.hardness.min");
     }
@@ -452,6 +796,162 @@ mod tests {
         // 46.5123° = 46° 30′ 44.28″ (arithmetic).
         assert_eq!(dms(46.5123, 'N', 'S'), "46°30′44.3″ N");
         assert_eq!(dms(-7.25, 'E', 'W'), "7°15′00.0″ W");
+    }
+
+    #[test]
+    fn every_bad_field_is_reported_at_once() {
+        let today = Date::constant(2026, 12, 4);
+        let errors = SampleInput {
+            sample_code: Some(String::new()),
+            collected_on: Some("2026-02-30".into()),
+            latitude: Some(95.0),
+            longitude: Some(10.0),
+            coordinate_uncertainty_m: Some(-1.0),
+            field_id: Some("mica".into()),
+            notes: Some("bell\u{7}".into()),
+            ..Default::default()
+        }
+        .check(known, Some(today))
+        .expect_err("bad");
+        let fields: Vec<&str> = errors.iter().map(|e| e.field.as_str()).collect();
+        assert_eq!(
+            fields,
+            [
+                "sample_code",
+                "collected_on",
+                "latitude",
+                "coordinate_uncertainty_m",
+                "field_id",
+                "notes"
+            ]
+        );
+        // `validate` names the first of them, for the API's one-error shape.
+        let first = SampleInput {
+            collected_on: Some("2026-02-30".into()),
+            ..Default::default()
+        }
+        .validate(known, Some(today))
+        .expect_err("bad");
+        assert_eq!(first.field, "sample_code");
+    }
+
+    #[test]
+    fn a_collection_date_after_today_is_refused() {
+        let today = Date::constant(2026, 12, 4);
+        let on = |d: &str| SampleInput {
+            sample_code: Some("x".into()),
+            collected_on: Some(d.into()),
+            ..Default::default()
+        };
+        assert!(on("2026-12-04").validate(known, Some(today)).is_ok());
+        assert!(on("1999-01-01").validate(known, Some(today)).is_ok());
+        for future in ["2026-12-05", "2027-01-01", "9999-12-31"] {
+            let e = on(future).validate(known, Some(today)).expect_err(future);
+            assert_eq!(e.field, "collected_on");
+            assert!(e.message.contains("2026-12-04"), "{}", e.message);
+        }
+        // Without a "today" (a file written elsewhere) any real date passes.
+        assert!(on("2027-01-01").validate(known, None).is_ok());
+    }
+
+    /// One degree is 3600″; 0.5″ of arc, the tolerance below.
+    const HALF_SECOND: f64 = 0.5 / 3600.0;
+
+    #[test]
+    fn coordinates_are_read_in_the_forms_field_units_show() {
+        use Axis::{Latitude as Lat, Longitude as Lon};
+        // 41°30′18″ = 41 + 30/60 + 18/3600 = 41.505 (arithmetic).
+        let cases: &[(&str, Axis, f64)] = &[
+            ("-41.505", Lat, -41.505),
+            ("−41.505", Lat, -41.505),
+            ("41,505", Lat, 41.505),
+            ("41.505 S", Lat, -41.505),
+            ("41.505°S", Lat, -41.505),
+            ("S 41.505", Lat, -41.505),
+            ("41°30'18\"S", Lat, -41.505),
+            ("41 30 18 S", Lat, -41.505),
+            ("41°30′18″S", Lat, -41.505),
+            ("41° 30′ 18″ S", Lat, -41.505),
+            ("41º30’18”S", Lat, -41.505),
+            ("S41 30 18", Lat, -41.505),
+            ("s41 30 18", Lat, -41.505),
+            ("41 30 18 n", Lat, 41.505),
+            ("-41 30 18", Lat, -41.505),
+            ("−41°30′18″", Lat, -41.505),
+            ("+41 30 18", Lat, 41.505),
+            // 30.3′ = 0.505° (arithmetic).
+            ("41 30.3 S", Lat, -41.505),
+            ("41°30.300'S", Lat, -41.505),
+            ("41°30,3'S", Lat, -41.505),
+            ("41 30", Lat, 41.5),
+            ("41 30 18.36 S", Lat, -(41.0 + 30.0 / 60.0 + 18.36 / 3600.0)),
+            ("0 0 0", Lat, 0.0),
+            ("90 S", Lat, -90.0),
+            // 172°38′05″ = 172.634722… (arithmetic).
+            ("172 38 05 E", Lon, 172.0 + 38.0 / 60.0 + 5.0 / 3600.0),
+            ("W172°38′05″", Lon, -(172.0 + 38.0 / 60.0 + 5.0 / 3600.0)),
+            ("180 W", Lon, -180.0),
+            ("-7.25", Lon, -7.25),
+        ];
+        for (raw, axis, want) in cases {
+            let got = parse_coordinate(raw, *axis).unwrap_or_else(|e| panic!("{raw}: {e}"));
+            assert!((got - want).abs() < 1e-9, "{raw}: {got} != {want}");
+        }
+    }
+
+    #[test]
+    fn ambiguous_or_impossible_coordinates_are_refused_with_the_forms() {
+        use Axis::{Latitude as Lat, Longitude as Lon};
+        let cases: &[(&str, Axis, &str)] = &[
+            ("41 30 18 E", Lat, "E marks a longitude"),
+            ("41 30 18 N", Lon, "N marks a latitude"),
+            ("-41 30 18 S", Lat, "both a sign and a hemisphere letter"),
+            ("S 41 30 18 S", Lat, "both ends"),
+            ("41 60 00 S", Lat, "60 minutes is not below 60"),
+            ("41 30 60 S", Lat, "60 seconds is not below 60"),
+            ("41 75.5", Lat, "not below 60"),
+            ("41.5 30", Lat, "only the last number may have a fraction"),
+            ("41 30.5 18", Lat, "only the last number may have a fraction"),
+            ("41 30 18 7", Lat, "more than three numbers"),
+            ("30' 41°", Lat, "marked as minutes"),
+            ("41\" S", Lat, "marked as seconds"),
+            ("41..5", Lat, "is not a number"),
+            ("41.", Lat, "is not a number"),
+            ("41 -30 18", Lat, "a sign belongs only before the degrees"),
+            ("north-ish", Lat, "not part of a coordinate"),
+            ("41 30 18 X", Lat, "not part of a coordinate"),
+            ("91", Lat, "at most 90°"),
+            ("90 0 1 N", Lat, "at most 90°"),
+            ("180 0 1 E", Lon, "at most 180°"),
+            ("S", Lat, "no number"),
+            ("°", Lat, "follows no number"),
+            ("", Lat, "empty"),
+        ];
+        for (raw, axis, why) in cases {
+            let e = parse_coordinate(raw, *axis).expect_err(raw);
+            assert!(e.contains(why), "{raw}: {e}");
+            assert!(e.contains(&axis.accepted_forms()), "{raw}: {e}");
+        }
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn dms_as_shown_reads_back_within_half_a_second(
+            lat in -90.0_f64..=90.0,
+            lon in -180.0_f64..=180.0,
+        ) {
+            for (x, axis, p, n) in [(lat, Axis::Latitude, 'N', 'S'), (lon, Axis::Longitude, 'E', 'W')] {
+                let shown = dms(x, p, n);
+                let back = parse_coordinate(&shown, axis)
+                    .map_err(|e| proptest::test_runner::TestCaseError::fail(e))?;
+                proptest::prop_assert!((back - x).abs() <= HALF_SECOND, "{} -> {} -> {}", x, shown, back);
+                // The same in plain ASCII, as a GPS menu shows it.
+                let ascii = shown.replace(['°', '′', '″'], " ");
+                let back = parse_coordinate(&ascii, axis)
+                    .map_err(|e| proptest::test_runner::TestCaseError::fail(e))?;
+                proptest::prop_assert!((back - x).abs() <= HALF_SECOND, "{} -> {} -> {}", x, ascii, back);
+            }
+        }
     }
 
     #[test]

@@ -458,10 +458,7 @@ impl Server {
         let state = AppState {
             db,
             engine: Engine::builtin(),
-            config: Arc::new(Config {
-                listen: addr,
-                db: db_path,
-            }),
+            config: Arc::new(Config::new(addr, db_path)),
         };
         let (stop, stopped) = oneshot::channel::<()>();
         let task = tokio::spawn(basal::web::run(listener, state, async {

@@ -1358,7 +1358,7 @@ mod tests {
             notes: Some(notes.into()),
             ..Default::default()
         }
-        .validate(|_| true)
+        .validate(|_| true, None)
         .expect("valid")
     }
 

@@ -133,7 +133,7 @@ async fn save_new(
 ) -> std::result::Result<SampleRecord, Response> {
     let base = st.engine.base();
     let v = input
-        .validate(|id| base.entry(id).is_some())
+        .validate(|id| base.entry(id).is_some(), Some(st.config.today()))
         .map_err(|e| ApiError::Invalid(e).into_response())?;
     let ident = st.engine.identify(&v.observations);
     db::create(
@@ -230,7 +230,7 @@ async fn replace(
         .into_response();
     };
     let base = st.engine.base();
-    let v = match input.validate(|e| base.entry(e).is_some()) {
+    let v = match input.validate(|e| base.entry(e).is_some(), Some(st.config.today())) {
         Ok(v) => v,
         Err(e) => return ApiError::Invalid(e).into_response(),
     };

@@ -30,7 +30,7 @@ use super::views::{self, CautionView, LeaderView};
 use crate::base::vocab::{Setting, Vocab};
 use crate::engine::input::observations_from_json;
 use crate::engine::{FieldError, Identification, Observations, Property};
-use crate::samples::{SampleInput, ValidSample, dms};
+use crate::samples::{Axis, SampleInput, ValidSample, dms, parse_coordinate};
 use crate::store::StoreError;
 use crate::store::drafts;
 use crate::store::samples::{self as db, Action, Filter, NewState, SampleRecord, WriteError};
@@ -161,10 +161,22 @@ impl Typed {
         (!a.is_empty()).then_some(a)
     }
 
-    /// The contract's input, or a message per form field that cannot be
-    /// read at all (a number that is not one, an unknown setting).
-    fn to_input(&self) -> Result<SampleInput, FieldMessages> {
+    /// The contract's input, and a message per form field that cannot be
+    /// read at all (a coordinate or number that is not one, an unknown
+    /// setting); such a field is left out of the input, so that the
+    /// validation still looks at every other field.
+    fn to_input(&self) -> (SampleInput, FieldMessages) {
         let mut errors = FieldMessages::new();
+        let mut coordinate = |key: &str, raw: &str, axis: Axis| -> Option<f64> {
+            if raw.trim().is_empty() {
+                return None;
+            }
+            parse_coordinate(raw, axis)
+                .map_err(|m| errors.insert(key.to_string(), m))
+                .ok()
+        };
+        let latitude = coordinate("latitude", &self.latitude, Axis::Latitude);
+        let longitude = coordinate("longitude", &self.longitude, Axis::Longitude);
         let mut number = |key: &str, raw: &str, example: &str| -> Option<f64> {
             let t = raw.trim();
             if t.is_empty() {
@@ -181,8 +193,6 @@ impl Typed {
                 }
             }
         };
-        let latitude = number("latitude", &self.latitude, "-41.5012");
-        let longitude = number("longitude", &self.longitude, "-20.3021");
         let uncertainty = number(
             "coordinate_uncertainty_m",
             &self.coordinate_uncertainty_m,
@@ -221,11 +231,16 @@ impl Typed {
                 }
             },
         };
-        if !errors.is_empty() {
-            return Err(errors);
-        }
         let opt = |s: &str| (!s.trim().is_empty()).then(|| s.to_string());
-        Ok(SampleInput {
+        // A coordinate that could not be read is not "missing": leave the
+        // pair out, so that the other one is not asked for.
+        let (latitude, longitude) =
+            if errors.contains_key("latitude") || errors.contains_key("longitude") {
+                (None, None)
+            } else {
+                (latitude, longitude)
+            };
+        let input = SampleInput {
             project: opt(&self.project),
             sample_code: opt(&self.sample_code),
             collected_on: opt(&self.collected_on),
@@ -241,7 +256,29 @@ impl Typed {
             notes: opt(&self.notes),
             edited_by: self.author(),
             ..Default::default()
-        })
+        };
+        (input, errors)
+    }
+
+    /// "read as −41.505000° (41°30′18.0″ S)" for each coordinate typed in
+    /// a form that parses, so the person sees what was understood.
+    fn readings(&self) -> FieldMessages {
+        let mut out = FieldMessages::new();
+        for (key, raw, axis, (p, n)) in [
+            ("latitude", &self.latitude, Axis::Latitude, ('N', 'S')),
+            ("longitude", &self.longitude, Axis::Longitude, ('E', 'W')),
+        ] {
+            if raw.trim().is_empty() {
+                continue;
+            }
+            if let Ok(x) = parse_coordinate(raw, axis) {
+                out.insert(
+                    key.to_string(),
+                    format!("read as {} ({})", precise_degrees(x), dms(x, p, n)),
+                );
+            }
+        }
+        out
     }
 }
 
@@ -254,17 +291,60 @@ fn form_field(path: &str) -> String {
     }
 }
 
-fn one_message(e: FieldError) -> FieldMessages {
-    FieldMessages::from([(form_field(&e.field), e.message)])
+/// Reads and validates the whole form at once: the validated sample, or a
+/// message beside every field that is wrong, the sample code's clash
+/// with another record of the project included (checked even when other
+/// fields are wrong, so one save shows everything to correct). `own` is
+/// the record being edited, whose own code is no clash.
+async fn validate(
+    st: &AppState,
+    typed: &Typed,
+    own: Option<&SampleRecord>,
+) -> PageResult<Result<ValidSample, FieldMessages>> {
+    let (input, mut errors) = typed.to_input();
+    let base = st.engine.base();
+    let checked = input.check(|id| base.entry(id).is_some(), Some(st.config.today()));
+    if let Err(all) = &checked {
+        for e in all {
+            // The reading's message (why a typed value is not a number or
+            // coordinate) is the more telling one; keep it.
+            errors.entry(form_field(&e.field)).or_insert_with(|| e.message.clone());
+        }
+    }
+    if !errors.contains_key("project") && !errors.contains_key("sample_code") {
+        let project = input.project.as_deref().map_or("default", str::trim);
+        let project = if project.is_empty() { "default" } else { project };
+        if db::project(&st.db, project).await?.is_none() {
+            errors.insert(
+                "project".to_string(),
+                format!("there is no project {project}; choose one from the list"),
+            );
+        } else if let Some(code) = input.sample_code.as_deref().map(str::trim)
+            && code_taken(st, project, code, own).await?
+        {
+            let next = suggest(st, project).await?;
+            errors.insert("sample_code".to_string(), taken_message(next.as_ref()));
+        }
+    }
+    Ok(match checked {
+        Ok(v) if errors.is_empty() => Ok(v),
+        _ => Err(errors),
+    })
 }
 
-/// Reads and validates the form: the validated sample, or messages per field.
-fn validate(st: &AppState, typed: &Typed) -> Result<ValidSample, FieldMessages> {
-    let input = typed.to_input()?;
-    let base = st.engine.base();
-    input
-        .validate(|id| base.entry(id).is_some())
-        .map_err(one_message)
+/// Whether another record of the project (deleted ones included: a code
+/// stays reserved) already has this code.
+async fn code_taken(
+    st: &AppState,
+    project: &str,
+    code: &str,
+    own: Option<&SampleRecord>,
+) -> Result<bool, StoreError> {
+    if own.is_some_and(|r| r.project == project && r.sample_code == code) {
+        return Ok(false);
+    }
+    let similar = db::codes_with_prefix(&st.db, project, code).await?;
+    Ok(similar.iter().any(|c| c == code))
 }
 
 /// One `<option>` of a select.
@@ -329,14 +409,34 @@ fn entry_name(st: &AppState, id: &str) -> String {
         .map_or_else(|| id.to_string(), |e| e.name.clone())
 }
 
-/// An ISO 8601 timestamp for people: `2026-06-08 10:22 UTC`.
-fn when(ts: &str) -> String {
-    let t: String = ts.replace('T', " ").chars().take(16).collect();
-    if t.is_empty() { t } else { format!("{t} UTC") }
+/// A stored UTC timestamp (`2026-12-04T01:05:00.000Z`) for people, in the
+/// configured zone with its offset: `2026-12-04 14:05 +13:00`. Text that
+/// is not a timestamp is shown as it is, marked UTC.
+pub fn local_time(zone: &jiff::tz::TimeZone, ts: &str) -> String {
+    match ts.parse::<jiff::Timestamp>() {
+        Ok(t) => t
+            .to_zoned_datetime(zone.clone())
+            .strftime("%Y-%m-%d %H:%M %:z")
+            .to_string(),
+        Err(_) => {
+            let t: String = ts.replace('T', " ").chars().take(16).collect();
+            if t.is_empty() { t } else { format!("{t} UTC") }
+        }
+    }
+}
+
+/// [`local_time`] in the service's zone.
+fn when(st: &AppState, ts: &str) -> String {
+    local_time(&st.config.time_zone, ts)
 }
 
 fn degrees(x: f64) -> String {
     format!("{x:.5}°").replace('-', "−")
+}
+
+/// Six decimals (about 0.1 m), for what a typed coordinate was read as.
+fn precise_degrees(x: f64) -> String {
+    format!("{x:.6}°").replace('-', "−")
 }
 
 /// A position for people: decimal degrees, DMS and the uncertainty.
@@ -459,10 +559,13 @@ fn typed_rows(st: &AppState, t: &Typed) -> Vec<FieldRow> {
     let number = |raw: &str, unit: &str| {
         let s = raw.trim();
         match s.replace(',', ".").parse::<f64>() {
-            Ok(x) if unit == "°" => degrees(x),
             Ok(x) => format!("{x}{unit}"),
             Err(_) => s.to_string(),
         }
+    };
+    let coordinate = |raw: &str, axis: Axis| match raw.trim() {
+        "" => String::new(),
+        s => parse_coordinate(s, axis).map_or_else(|_| s.to_string(), degrees),
     };
     let obs = match t.observations.trim() {
         "" => "none".to_string(),
@@ -496,19 +599,11 @@ fn typed_rows(st: &AppState, t: &Typed) -> Vec<FieldRow> {
         },
         FieldRow {
             label: "Latitude",
-            value: if t.latitude.is_empty() {
-                String::new()
-            } else {
-                number(&t.latitude, "°")
-            },
+            value: coordinate(&t.latitude, Axis::Latitude),
         },
         FieldRow {
             label: "Longitude",
-            value: if t.longitude.is_empty() {
-                String::new()
-            } else {
-                number(&t.longitude, "°")
-            },
+            value: coordinate(&t.longitude, Axis::Longitude),
         },
         FieldRow {
             label: "Coordinate uncertainty",
@@ -548,29 +643,6 @@ fn typed_rows(st: &AppState, t: &Typed) -> Vec<FieldRow> {
 // ---------------------------------------------------------------------------
 // Sample codes from a project's scheme
 // ---------------------------------------------------------------------------
-
-/// Today's date (UTC) as (year, month, day), from the system clock.
-fn today() -> (i32, u32, u32) {
-    let secs = std::time::SystemTime::now()
-        .duration_since(std::time::UNIX_EPOCH)
-        .map_or(0, |d| d.as_secs());
-    civil_from_days((secs / 86_400) as i64)
-}
-
-/// Days since 1970-01-01 to a proleptic Gregorian date (the well-known
-/// era-based conversion; arithmetic only).
-fn civil_from_days(z: i64) -> (i32, u32, u32) {
-    let z = z + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let d = (doy - (153 * mp + 2) / 5 + 1) as u32;
-    let m = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-    let y = yoe + era * 400 + i64::from(m <= 2);
-    (y as i32, m, d)
-}
 
 /// A code scheme expanded for one year: the literal text before and after
 /// the sequence number, and the sequence's width (`None` when the scheme
@@ -663,7 +735,7 @@ async fn suggest(st: &AppState, project: &str) -> Result<Option<(String, String)
     let Some(p) = db::project(&st.db, code).await? else {
         return Ok(None);
     };
-    let scheme = parse_scheme(&p.code_scheme, today().0);
+    let scheme = parse_scheme(&p.code_scheme, i32::from(st.config.today().year()));
     let used = db::codes_with_prefix(&st.db, code, &scheme.prefix).await?;
     Ok(Some((p.code_scheme.clone(), next_code(&scheme, &used))))
 }
@@ -684,6 +756,8 @@ pub struct FormView {
     pub v: Typed,
     /// Messages per form field.
     pub errors: FieldMessages,
+    /// What each typed coordinate was read as, per field.
+    pub readings: FieldMessages,
     /// Projects to choose from.
     pub projects: Vec<OptionView>,
     /// Settings to choose from.
@@ -704,6 +778,15 @@ impl FormView {
     /// The message beside a field, if any.
     pub fn err(&self, field: &str) -> Option<&str> {
         self.errors.get(field).map(String::as_str)
+    }
+
+    /// What a typed coordinate was read as, when it was read and has no
+    /// message.
+    pub fn reading(&self, field: &str) -> Option<&str> {
+        if self.errors.contains_key(field) {
+            return None;
+        }
+        self.readings.get(field).map(String::as_str)
     }
 
     /// `aria-invalid` and `aria-describedby` for an input with a message.
@@ -775,6 +858,7 @@ async fn form_view(
         observed,
         revision: spec.revision,
         is_new: spec.is_new,
+        readings: v.readings(),
         v,
         errors,
     })
@@ -838,10 +922,9 @@ async fn new_form(
 ) -> PageResult<NewPage> {
     let mut v = Typed {
         project: query_value(raw.as_deref(), "project").unwrap_or_else(|| "default".into()),
-        collected_on: {
-            let (y, m, d) = today();
-            format!("{y:04}-{m:02}-{d:02}")
-        },
+        // The date where the person is: the browser sends no zone, so it
+        // is the service's configured one (`--time-zone`).
+        collected_on: st.config.today().strftime("%Y-%m-%d").to_string(),
         ..Default::default()
     };
     if let Some(draft) = query_value(raw.as_deref(), "draft") {
@@ -882,7 +965,7 @@ async fn create(
             .into_response());
     }
     let refuse = |page: NewPage| (StatusCode::UNPROCESSABLE_ENTITY, page).into_response();
-    let v = match validate(&st, &typed) {
+    let v = match validate(&st, &typed, None).await? {
         Ok(v) => v,
         Err(errors) => return Ok(refuse(new_page(&st, &csrf, typed, errors).await?)),
     };
@@ -939,14 +1022,16 @@ async fn load(st: &AppState, id: &str) -> PageResult<SampleRecord> {
     db::get(&st.db, id).await?.ok_or_else(|| not_found(id))
 }
 
-fn deleted_page(rec: &SampleRecord) -> Response {
+fn deleted_page(st: &AppState, rec: &SampleRecord) -> Response {
     super::pages::error_page(
         StatusCode::CONFLICT,
         "This sample is deleted",
         format!(
             "Sample {} was deleted on {}, so it cannot be edited. Restore it first from its page, /samples/{}.",
             rec.sample_code,
-            rec.deleted_at.as_deref().map_or_else(String::new, when),
+            rec.deleted_at
+                .as_deref()
+                .map_or_else(String::new, |t| when(st, t)),
             rec.id
         ),
     )
@@ -1011,7 +1096,7 @@ fn history_views(st: &AppState, revs: &[db::Revision]) -> Vec<RevisionView> {
         .enumerate()
         .map(|(i, r)| RevisionView {
             revision: r.revision,
-            when: when(&r.recorded_at),
+            when: when(st, &r.recorded_at),
             who: r.author.clone().unwrap_or_default(),
             action: action_words(r.action),
             changes: match i.checked_sub(1) {
@@ -1112,9 +1197,9 @@ async fn record(
         snap: snapshot(&st, &rec.identification, !rec.observations.is_empty()),
         observed: observed(&rec.observations),
         cautions: views::cautions(&rec.identification),
-        deleted_on: rec.deleted_at.as_deref().map(when),
-        created: when(&rec.created_at),
-        updated: when(&rec.updated_at),
+        deleted_on: rec.deleted_at.as_deref().map(|t| when(&st, t)),
+        created: when(&st, &rec.created_at),
+        updated: when(&st, &rec.updated_at),
         history: history_views(&st, &revs),
         id: rec.id,
     })
@@ -1214,7 +1299,7 @@ async fn edit_form(
 ) -> PageResult<Response> {
     let rec = load(&st, &id).await?;
     if rec.deleted {
-        return Ok(deleted_page(&rec));
+        return Ok(deleted_page(&st, &rec));
     }
     let mut v = Typed::from_record(&rec);
     let draft = query_value(raw.as_deref(), "draft");
@@ -1239,7 +1324,7 @@ async fn reexamine(
     csrf::verify(&csrf, form.get(csrf::FIELD))?;
     let rec = load(&st, &id).await?;
     if rec.deleted {
-        return Ok(deleted_page(&rec));
+        return Ok(deleted_page(&st, &rec));
     }
     let d = drafts::create_for_sample(&st.db, &rec.id, &rec.observations).await?;
     Ok(Redirect::to(&format!("/identify/{}", d.id)).into_response())
@@ -1279,7 +1364,7 @@ async fn edit(
     csrf::verify(&csrf, form.get(csrf::FIELD))?;
     let rec = load(&st, &id).await?;
     if rec.deleted {
-        return Ok(deleted_page(&rec));
+        return Ok(deleted_page(&st, &rec));
     }
     let typed = Typed::from_form(&form);
     let refuse = |page: EditPage| (StatusCode::UNPROCESSABLE_ENTITY, page).into_response();
@@ -1293,7 +1378,7 @@ async fn edit(
             edit_page(&st, &csrf, &rec, rec.revision, typed, errors).await?,
         ));
     };
-    let v = match validate(&st, &typed) {
+    let v = match validate(&st, &typed, Some(&rec)).await? {
         Ok(v) => v,
         Err(errors) => {
             return Ok(refuse(
@@ -1337,7 +1422,7 @@ async fn edit(
                 edit_page(&st, &csrf, &rec, expected, typed, errors).await?,
             ))
         }
-        Err(WriteError::Deleted(_)) => Ok(deleted_page(&rec)),
+        Err(WriteError::Deleted(_)) => Ok(deleted_page(&st, &rec)),
         Err(e) => Err(write_page_error(e)),
     }
 }
@@ -1378,7 +1463,7 @@ async fn stale_page(
         id: current.id.clone(),
         yours_from,
         theirs_revision: current.revision,
-        theirs_when: when(&current.updated_at),
+        theirs_when: when(st, &current.updated_at),
         rows,
         form,
     })
@@ -1675,15 +1760,6 @@ mod tests {
     }
 
     #[test]
-    fn days_since_the_epoch_become_calendar_dates() {
-        // 1970-01-01 is day 0; 2000-02-29 is day 11016; 2026-07-14 is day
-        // 20648 (arithmetic, checked by counting days per year).
-        assert_eq!(civil_from_days(0), (1970, 1, 1));
-        assert_eq!(civil_from_days(11_016), (2000, 2, 29));
-        assert_eq!(civil_from_days(20_648), (2026, 7, 14));
-    }
-
-    #[test]
     fn typed_numbers_that_are_not_numbers_are_named_by_field() {
         let t = Typed {
             sample_code: "X-1".into(),
@@ -1691,8 +1767,34 @@ mod tests {
             longitude: "12,5".into(),
             ..Default::default()
         };
-        let e = t.to_input().expect_err("bad latitude");
+        let (input, e) = t.to_input();
         assert!(e.contains_key("latitude"));
         assert!(!e.contains_key("longitude"), "a decimal comma is read");
+        assert_eq!(
+            (input.latitude, input.longitude),
+            (None, None),
+            "an unreadable coordinate leaves the pair out, so the other is not reported missing"
+        );
+        assert_eq!(input.sample_code.as_deref(), Some("X-1"), "the rest is still read");
+    }
+
+    #[test]
+    fn stored_times_are_shown_in_the_zone_with_their_offset() {
+        // Asia/Kolkata is UTC+05:30 all year; Pacific/Auckland is +13:00
+        // in December (daylight time) and +12:00 in July (IANA rules).
+        let zone = |n: &str| jiff::tz::TimeZone::get(n).expect("zone");
+        assert_eq!(
+            local_time(&zone("Pacific/Auckland"), "2026-12-04T01:05:00.000Z"),
+            "2026-12-04 14:05 +13:00"
+        );
+        assert_eq!(
+            local_time(&zone("Pacific/Auckland"), "2026-07-04T01:05:00.000Z"),
+            "2026-07-04 13:05 +12:00"
+        );
+        assert_eq!(
+            local_time(&zone("Asia/Kolkata"), "2026-12-04T20:00:00Z"),
+            "2026-12-05 01:30 +05:30"
+        );
+        assert_eq!(local_time(&zone("UTC"), "garbled"), "garbled UTC");
     }
 }

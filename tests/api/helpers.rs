@@ -56,10 +56,7 @@ impl TestApp {
         let dir = tempfile::tempdir().expect("tempdir");
         let db_path = dir.path().join("basal.sqlite");
         let db = basal::store::open(&db_path).await.expect("open db");
-        let config = Config {
-            listen: "127.0.0.1:0".parse().expect("addr"),
-            db: db_path,
-        };
+        let config = Config::new("127.0.0.1:0".parse().expect("addr"), db_path);
         let state = AppState {
             db,
             engine: Engine::builtin(),

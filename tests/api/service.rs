@@ -77,10 +77,7 @@ async fn the_service_answers_over_a_real_socket_and_shuts_down() {
     let state = basal::web::AppState {
         db,
         engine: basal::engine::Engine::builtin(),
-        config: std::sync::Arc::new(basal::cli::Config {
-            listen: addr,
-            db: dir.path().join("s.sqlite"),
-        }),
+        config: std::sync::Arc::new(basal::cli::Config::new(addr, dir.path().join("s.sqlite"))),
     };
     let (tx, rx) = tokio::sync::oneshot::channel::<()>();
     let server = tokio::spawn(basal::web::run(listener, state, async {
