@@ -53,10 +53,17 @@ impl Reply {
 
 impl TestApp {
     pub async fn new() -> TestApp {
+        TestApp::with_config(|_| {}).await
+    }
+
+    /// An app whose configuration `adjust` changes first (a time zone, a
+    /// fixed clock).
+    pub async fn with_config(adjust: impl FnOnce(&mut Config)) -> TestApp {
         let dir = tempfile::tempdir().expect("tempdir");
         let db_path = dir.path().join("basal.sqlite");
         let db = basal::store::open(&db_path).await.expect("open db");
-        let config = Config::new("127.0.0.1:0".parse().expect("addr"), db_path);
+        let mut config = Config::new("127.0.0.1:0".parse().expect("addr"), db_path);
+        adjust(&mut config);
         let state = AppState {
             db,
             engine: Engine::builtin(),

@@ -246,8 +246,10 @@ async fn bad_values_are_refused_beside_their_fields_and_kept() {
     let mut s = Session::new(&app);
     // (field, typed value, words the message must contain)
     let cases = [
-        ("latitude", "95", "latitude must be decimal degrees"),
-        ("latitude", "north", "is not a number"),
+        ("latitude", "95", "a latitude is at most 90°"),
+        ("latitude", "north", "cannot be read as a latitude"),
+        ("latitude", "41 30 18 E", "E marks a longitude"),
+        ("longitude", "20 61 00 W", "61 minutes is not below 60"),
         ("collected_on", "2026-02-30", "is not a calendar date"),
         ("collected_on", "09/06/2026", "YYYY-MM-DD"),
         ("coordinate_uncertainty_m", "-3", "greater than 0"),
@@ -274,7 +276,7 @@ async fn bad_values_are_refused_beside_their_fields_and_kept() {
         );
         if matches!(
             field,
-            "latitude" | "collected_on" | "coordinate_uncertainty_m"
+            "latitude" | "longitude" | "collected_on" | "coordinate_uncertainty_m"
         ) {
             assert_eq!(
                 input_value(&html, field).as_deref(),
@@ -804,4 +806,263 @@ async fn testing_a_saved_sample_again_puts_the_new_answers_into_it_as_a_new_revi
         ))
         .await;
     assert_eq!(missing.status, StatusCode::NOT_FOUND);
+}
+
+/// The message beside `field` (the text of its `e-FIELD` element), if any.
+fn message_beside(html: &str, field: &str) -> Option<String> {
+    let at = html.find(&format!("id=\"e-{field}\">"))? + format!("id=\"e-{field}\">").len();
+    Some(unescape(&html[at..at + html[at..].find("</p>")?]))
+}
+
+/// The "read as" line beside a coordinate field, if any.
+fn reading_beside(html: &str, field: &str) -> Option<String> {
+    let at = html.find(&format!("id=\"r-{field}\">"))? + format!("id=\"r-{field}\">").len();
+    Some(unescape(&html[at..at + html[at..].find("</p>")?]))
+}
+
+/// An app in `zone` whose clock stands at `instant` (UTC).
+async fn app_at(zone: &str, instant: &str) -> TestApp {
+    let zone = jiff::tz::TimeZone::get(zone).expect("zone");
+    let at: jiff::Timestamp = instant.parse().expect("instant");
+    TestApp::with_config(|c| {
+        c.time_zone = zone;
+        c.clock = basal::cli::Clock::Fixed(at);
+    })
+    .await
+}
+
+#[tokio::test]
+async fn every_bad_field_is_reported_at_once_beside_its_field_with_the_values_kept() {
+    // Arrange: S-0001 exists; a second form repeats its code and also has
+    // an impossible date and a latitude with 75 minutes.
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    created(&mut s, "S-0001").await;
+    let fields = with(
+        &with(
+            &with(&full_form("S-0001"), "collected_on", "2026-02-30"),
+            "latitude",
+            "41 75 00 S",
+        ),
+        "station",
+        "Ridge cut 4",
+    );
+    // Act
+    let r = create(&mut s, &fields).await;
+    // Assert: three messages, each beside its own field, in one answer.
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let html = r.text();
+    let date = message_beside(&html, "collected_on").expect("a message beside the date");
+    assert!(date.contains("is not a calendar date"), "{date}");
+    let lat = message_beside(&html, "latitude").expect("a message beside the latitude");
+    assert!(lat.contains("75 minutes is not below 60"), "{lat}");
+    let code = message_beside(&html, "sample_code").expect("a message beside the code");
+    assert!(code.contains("that code is taken"), "{code}");
+    assert!(code.contains("S-0002"), "{code}");
+    for (name, typed) in [
+        ("collected_on", "2026-02-30"),
+        ("latitude", "41 75 00 S"),
+        ("sample_code", "S-0001"),
+        ("station", "Ridge cut 4"),
+        ("longitude", "-20.3021"),
+    ] {
+        assert_eq!(input_value(&html, name).as_deref(), Some(typed), "{name} kept");
+    }
+    // The longitude was fine, and the page says what it was read as.
+    assert_eq!(message_beside(&html, "longitude"), None);
+    let list = app.get("/api/v1/samples").await.json();
+    assert_eq!(list["samples"].as_array().map(Vec::len), Some(1), "nothing saved");
+
+    // The edit form does the same: S-0002 renamed to S-0001 with the same
+    // two bad values gets all three messages, and stays as it was.
+    let id = created(&mut s, "S-0002").await;
+    let edit = s.get(&format!("/samples/{id}/edit")).await;
+    assert_eq!(edit.status, StatusCode::OK);
+    let fields = with(
+        &with(
+            &with(&full_form("S-0001"), "collected_on", "2026-02-30"),
+            "latitude",
+            "41 75 00 S",
+        ),
+        "revision",
+        "1",
+    );
+    let r = s.submit(&format!("/samples/{id}/edit"), &form_body(&fields)).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let html = r.text();
+    for field in ["collected_on", "latitude", "sample_code"] {
+        assert!(message_beside(&html, field).is_some(), "edit: no message beside {field}");
+    }
+    // Its own code is no clash: the same bad date alone gives one message.
+    let fields = with(&with(&full_form("S-0002"), "collected_on", "2026-02-30"), "revision", "1");
+    let r = s.submit(&format!("/samples/{id}/edit"), &form_body(&fields)).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let html = r.text();
+    assert!(message_beside(&html, "collected_on").is_some());
+    assert_eq!(message_beside(&html, "sample_code"), None, "its own code is not taken");
+    let rec = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    assert_eq!((rec["sample_code"].as_str(), rec["revision"].as_i64()), (Some("S-0002"), Some(1)));
+}
+
+#[tokio::test]
+async fn coordinates_typed_as_field_gps_units_show_them_are_saved_as_decimal_degrees() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    // 41°30′18″ = 41.505°; 20°18′07.56″ = 20.3021° (arithmetic).
+    let cases = [
+        ("41°30'18\"S", "20°18'07.56\"W"),
+        ("41 30 18 S", "20 18 7.56 W"),
+        ("41°30′18″S", "20°18′07.56″W"),
+        ("S41 30 18", "W20 18 07.56"),
+        ("-41 30 18", "-20 18 07.56"),
+        ("41 30.3 S", "20 18.126 W"),
+        ("41°30.300'S", "20°18.126'W"),
+        ("-41.505", "-20.3021"),
+    ];
+    for (i, (lat, lon)) in cases.iter().enumerate() {
+        let code = format!("S-{:04}", i + 1);
+        let fields = with(&with(&full_form(&code), "latitude", lat), "longitude", lon);
+        let r = create(&mut s, &fields).await;
+        assert_eq!(r.status, StatusCode::SEE_OTHER, "{lat} {lon}: {}", r.text());
+        let rec = app.get(&format!("/api/v1{}", r.location())).await.json();
+        let (y, x) = (
+            rec["latitude"].as_f64().expect("latitude"),
+            rec["longitude"].as_f64().expect("longitude"),
+        );
+        assert!((y + 41.505).abs() < 1e-9, "{lat} saved as {y}");
+        assert!((x + 20.3021).abs() < 1e-9, "{lon} saved as {x}");
+        // The record page shows decimal degrees and DMS as before.
+        let page = s.get(&r.location()).await.text();
+        assert!(page.contains("−41.50500°") && page.contains("41°30′18.0″ S"), "{lat}");
+    }
+    // A refused form says beside the coordinate what it was read as.
+    let fields = with(
+        &with(&full_form("S-0100"), "latitude", "41°30′18″S"),
+        "collected_on",
+        "someday",
+    );
+    let r = create(&mut s, &fields).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let html = r.text();
+    let read = reading_beside(&html, "latitude").expect("a reading beside the latitude");
+    assert!(read.contains("read as −41.505000°"), "{read}");
+    assert!(read.contains("41°30′18.0″ S"), "{read}");
+    assert_eq!(input_value(&html, "latitude").as_deref(), Some("41°30′18″S"));
+    // An unreadable one gets the accepted forms instead, and no reading.
+    let fields = with(&full_form("S-0100"), "latitude", "41 30 18 S 5");
+    let html = create(&mut s, &fields).await.text();
+    let msg = message_beside(&html, "latitude").expect("a message");
+    assert!(msg.contains("41°30′18″S") && msg.contains("41 30.3 S"), "{msg}");
+    assert_eq!(reading_beside(&html, "latitude"), None);
+}
+
+#[tokio::test]
+async fn the_new_form_prefills_today_where_the_person_is() {
+    // 2026-12-04 12:30 UTC is 01:30 on 5 December in Auckland (UTC+13 in
+    // December) and 04:30 on the 4th in Los Angeles (UTC−8); 02:00 UTC is
+    // 18:00 on the 3rd in Los Angeles (IANA rules; arithmetic).
+    for (zone, instant, today) in [
+        ("Pacific/Auckland", "2026-12-04T12:30:00Z", "2026-12-05"),
+        ("UTC", "2026-12-04T12:30:00Z", "2026-12-04"),
+        ("America/Los_Angeles", "2026-12-04T12:30:00Z", "2026-12-04"),
+        ("America/Los_Angeles", "2026-12-04T02:00:00Z", "2026-12-03"),
+    ] {
+        let app = app_at(zone, instant).await;
+        let html = app.get("/samples/new").await.text();
+        assert_eq!(
+            input_value(&html, "collected_on").as_deref(),
+            Some(today),
+            "{zone} at {instant}"
+        );
+    }
+}
+
+#[tokio::test]
+async fn a_collection_date_in_the_future_is_refused_on_the_form_and_the_api() {
+    // Auckland is already on 5 December at 2026-12-04 12:30 UTC.
+    let app = app_at("Pacific/Auckland", "2026-12-04T12:30:00Z").await;
+    let mut s = Session::new(&app);
+    let r = create(&mut s, &with(&full_form("S-0001"), "collected_on", "2026-12-06")).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let html = r.text();
+    let msg = message_beside(&html, "collected_on").expect("a message beside the date");
+    assert!(msg.contains("after today (2026-12-05)"), "{msg}");
+    assert_eq!(input_value(&html, "collected_on").as_deref(), Some("2026-12-06"));
+    // Today there is accepted, although it is still the 4th in UTC.
+    let r = create(&mut s, &with(&full_form("S-0001"), "collected_on", "2026-12-05")).await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let id = r.location().trim_start_matches("/samples/").to_string();
+
+    // The JSON API refuses it too, on create and on update.
+    let r = app
+        .post_json("/api/v1/samples", r#"{"sample_code": "A-1", "collected_on": "2026-12-06"}"#)
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let (field, message) = r.error();
+    assert_eq!(field, "collected_on");
+    assert!(message.contains("2026-12-05"), "{message}");
+    let r = app
+        .put_json(
+            &format!("/api/v1/samples/{id}"),
+            r#"{"sample_code": "S-0001", "collected_on": "2027-01-01", "revision": 1}"#,
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(r.error().0, "collected_on");
+    let r = app
+        .post_json("/api/v1/samples", r#"{"sample_code": "A-1", "collected_on": "2026-12-05"}"#)
+        .await;
+    assert_eq!(r.status, StatusCode::CREATED, "{}", r.text());
+}
+
+#[tokio::test]
+async fn times_on_the_record_and_its_history_are_shown_in_the_zone_with_the_offset() {
+    // Asia/Kolkata is UTC+05:30 all year (IANA), whatever day this runs.
+    let app = TestApp::with_config(|c| {
+        c.time_zone = jiff::tz::TimeZone::get("Asia/Kolkata").expect("zone");
+    })
+    .await;
+    let mut s = Session::new(&app);
+    let id = created(&mut s, "S-0001").await;
+    let fields = with(&with(&full_form("S-0001"), "station", "Ridge cut 9"), "revision", "1");
+    let r = s.submit(&format!("/samples/{id}/edit"), &form_body(&fields)).await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
+    let html = s.get(&format!("/samples/{id}")).await.text();
+    // Created, last changed, and the two revisions of the history.
+    assert!(html.matches(" +05:30").count() >= 4, "{html}");
+    assert!(!html.contains(" UTC"), "times are no longer shown in UTC: {html}");
+    // The stored times stay UTC.
+    let rec = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    let created_at = rec["created_at"].as_str().expect("created_at");
+    assert!(created_at.ends_with('Z'), "{created_at}");
+    let shown = basal::web::samples_pages::local_time(
+        &jiff::tz::TimeZone::get("Asia/Kolkata").expect("zone"),
+        created_at,
+    );
+    assert!(html.contains(&format!("created {shown}")), "{shown}");
+}
+
+#[test]
+fn a_bad_time_zone_name_stops_the_service_at_start_with_a_clear_message() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    for (env, args) in [
+        (Some("Mars/Olympus_Mons"), vec![]),
+        (None, vec!["--time-zone", "Mars/Olympus_Mons"]),
+    ] {
+        let mut cmd = std::process::Command::new(env!("CARGO_BIN_EXE_basal"));
+        cmd.args(["serve", "--listen", "127.0.0.1:0", "--db"])
+            .arg(dir.path().join("tz.sqlite"))
+            .args(&args)
+            .env_remove("BASAL_TZ");
+        if let Some(v) = env {
+            cmd.env("BASAL_TZ", v);
+        }
+        let out = cmd.output().expect("runs");
+        assert!(!out.status.success(), "{env:?} {args:?}: started");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains("Mars/Olympus_Mons"), "{err}");
+        assert!(err.contains("is not a time zone of the IANA database"), "{err}");
+        assert!(err.contains("Pacific/Auckland"), "{err}");
+        assert!(!dir.path().join("tz.sqlite").exists(), "nothing was opened");
+    }
 }
