@@ -124,7 +124,7 @@ async fn fill(pool: &sqlx::SqlitePool, engine: &Engine, from: usize, to: usize) 
                     ..Default::default()
                 };
                 ImportItem {
-                    sample: input.validate(|_| true).expect("valid"),
+                    sample: input.validate(|_| true, None).expect("valid"),
                     snapshot: packed[n % t.len()].clone(),
                     keep: Kept::default(),
                 }
@@ -175,7 +175,10 @@ async fn main() {
     let state = basal::web::AppState {
         db: pool.clone(),
         engine,
-        config: Arc::new(basal::cli::Config::new("127.0.0.1:0".parse().expect("addr"), path.clone())),
+        config: Arc::new(basal::cli::Config::new(
+            "127.0.0.1:0".parse().expect("addr"),
+            path.clone(),
+        )),
     };
     let app = basal::web::app(state);
     let queries = [

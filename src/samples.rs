@@ -395,9 +395,7 @@ pub fn parse_coordinate(raw: &str, axis: Axis) -> Result<f64, String> {
             let mut pieces = text.split('.');
             let whole = pieces.next().unwrap_or("");
             let frac = pieces.next();
-            !whole.is_empty()
-                && pieces.next().is_none()
-                && frac.is_none_or(|f| !f.is_empty())
+            !whole.is_empty() && pieces.next().is_none() && frac.is_none_or(|f| !f.is_empty())
         };
         if !well_formed {
             return refuse(format!("{text} is not a number"));
@@ -463,12 +461,11 @@ impl SampleInput {
         known_entry: impl Fn(&str) -> bool,
         today: Option<Date>,
     ) -> Result<ValidSample, FieldError> {
-        self.check(known_entry, today)
-            .map_err(|all| {
-                all.into_iter()
-                    .next()
-                    .unwrap_or_else(|| FieldError::new("", "the record could not be read"))
-            })
+        self.check(known_entry, today).map_err(|all| {
+            all.into_iter()
+                .next()
+                .unwrap_or_else(|| FieldError::new("", "the record could not be read"))
+        })
     }
 
     /// Validates every field like [`SampleInput::validate`], and returns
@@ -483,11 +480,17 @@ impl SampleInput {
         let project = take(self.project_field(), &mut errors);
         let sample_code = take(self.sample_code_field(), &mut errors);
         let collected_on = take(self.collected_on_field(today), &mut errors);
-        let collector = take(text("collector", &self.collector, MAX_SHORT_TEXT), &mut errors);
+        let collector = take(
+            text("collector", &self.collector, MAX_SHORT_TEXT),
+            &mut errors,
+        );
         let station = take(text("station", &self.station, MAX_SHORT_TEXT), &mut errors);
         let position = take(self.position_field(), &mut errors);
         let coordinate_uncertainty_m = take(self.uncertainty_field(), &mut errors);
-        let lithology = take(text("lithology", &self.lithology, MAX_SHORT_TEXT), &mut errors);
+        let lithology = take(
+            text("lithology", &self.lithology, MAX_SHORT_TEXT),
+            &mut errors,
+        );
         let observations = take(self.observations_field(), &mut errors);
         let field_id = take(self.field_id_field(&known_entry), &mut errors);
         let notes = take(text("notes", &self.notes, MAX_NOTES), &mut errors);
@@ -663,7 +666,10 @@ impl SampleInput {
         Ok(observations)
     }
 
-    fn field_id_field(&self, known_entry: impl Fn(&str) -> bool) -> Result<Option<String>, FieldError> {
+    fn field_id_field(
+        &self,
+        known_entry: impl Fn(&str) -> bool,
+    ) -> Result<Option<String>, FieldError> {
         let field_id = match self.field_id.as_deref().map(str::trim) {
             None | Some("") => None,
             Some(id) if known_entry(id) => Some(id.to_string()),
@@ -698,7 +704,9 @@ mod tests {
         .expect("valid");
         assert_eq!(s.project, "default");
         assert_eq!(s.sample_code, "BV-001");
-        let e = SampleInput::default().validate(known, None).expect_err("no code");
+        let e = SampleInput::default()
+            .validate(known, None)
+            .expect_err("no code");
         assert_eq!(e.field, "sample_code");
     }
 
@@ -911,7 +919,11 @@ mod tests {
             ("41 30 60 S", Lat, "60 seconds is not below 60"),
             ("41 75.5", Lat, "not below 60"),
             ("41.5 30", Lat, "only the last number may have a fraction"),
-            ("41 30.5 18", Lat, "only the last number may have a fraction"),
+            (
+                "41 30.5 18",
+                Lat,
+                "only the last number may have a fraction",
+            ),
             ("41 30 18 7", Lat, "more than three numbers"),
             ("30' 41°", Lat, "marked as minutes"),
             ("41\" S", Lat, "marked as seconds"),
@@ -943,12 +955,12 @@ mod tests {
             for (x, axis, p, n) in [(lat, Axis::Latitude, 'N', 'S'), (lon, Axis::Longitude, 'E', 'W')] {
                 let shown = dms(x, p, n);
                 let back = parse_coordinate(&shown, axis)
-                    .map_err(|e| proptest::test_runner::TestCaseError::fail(e))?;
+                    .map_err(proptest::test_runner::TestCaseError::fail)?;
                 proptest::prop_assert!((back - x).abs() <= HALF_SECOND, "{} -> {} -> {}", x, shown, back);
                 // The same in plain ASCII, as a GPS menu shows it.
                 let ascii = shown.replace(['°', '′', '″'], " ");
                 let back = parse_coordinate(&ascii, axis)
-                    .map_err(|e| proptest::test_runner::TestCaseError::fail(e))?;
+                    .map_err(proptest::test_runner::TestCaseError::fail)?;
                 proptest::prop_assert!((back - x).abs() <= HALF_SECOND, "{} -> {} -> {}", x, ascii, back);
             }
         }

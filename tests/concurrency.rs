@@ -20,7 +20,10 @@ async fn app() -> (axum::Router, tempfile::TempDir) {
     let state = basal::web::AppState {
         db,
         engine: basal::engine::Engine::builtin(),
-        config: Arc::new(basal::cli::Config::new("127.0.0.1:0".parse().expect("addr"), path)),
+        config: Arc::new(basal::cli::Config::new(
+            "127.0.0.1:0".parse().expect("addr"),
+            path,
+        )),
     };
     (basal::web::app(state), dir)
 }

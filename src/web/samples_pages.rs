@@ -308,12 +308,18 @@ async fn validate(
         for e in all {
             // The reading's message (why a typed value is not a number or
             // coordinate) is the more telling one; keep it.
-            errors.entry(form_field(&e.field)).or_insert_with(|| e.message.clone());
+            errors
+                .entry(form_field(&e.field))
+                .or_insert_with(|| e.message.clone());
         }
     }
     if !errors.contains_key("project") && !errors.contains_key("sample_code") {
         let project = input.project.as_deref().map_or("default", str::trim);
-        let project = if project.is_empty() { "default" } else { project };
+        let project = if project.is_empty() {
+            "default"
+        } else {
+            project
+        };
         if db::project(&st.db, project).await?.is_none() {
             errors.insert(
                 "project".to_string(),
@@ -1775,7 +1781,11 @@ mod tests {
             (None, None),
             "an unreadable coordinate leaves the pair out, so the other is not reported missing"
         );
-        assert_eq!(input.sample_code.as_deref(), Some("X-1"), "the rest is still read");
+        assert_eq!(
+            input.sample_code.as_deref(),
+            Some("X-1"),
+            "the rest is still read"
+        );
     }
 
     #[test]

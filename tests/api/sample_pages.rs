@@ -866,12 +866,20 @@ async fn every_bad_field_is_reported_at_once_beside_its_field_with_the_values_ke
         ("station", "Ridge cut 4"),
         ("longitude", "-20.3021"),
     ] {
-        assert_eq!(input_value(&html, name).as_deref(), Some(typed), "{name} kept");
+        assert_eq!(
+            input_value(&html, name).as_deref(),
+            Some(typed),
+            "{name} kept"
+        );
     }
     // The longitude was fine, and the page says what it was read as.
     assert_eq!(message_beside(&html, "longitude"), None);
     let list = app.get("/api/v1/samples").await.json();
-    assert_eq!(list["samples"].as_array().map(Vec::len), Some(1), "nothing saved");
+    assert_eq!(
+        list["samples"].as_array().map(Vec::len),
+        Some(1),
+        "nothing saved"
+    );
 
     // The edit form does the same: S-0002 renamed to S-0001 with the same
     // two bad values gets all three messages, and stays as it was.
@@ -887,21 +895,39 @@ async fn every_bad_field_is_reported_at_once_beside_its_field_with_the_values_ke
         "revision",
         "1",
     );
-    let r = s.submit(&format!("/samples/{id}/edit"), &form_body(&fields)).await;
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&fields))
+        .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     let html = r.text();
     for field in ["collected_on", "latitude", "sample_code"] {
-        assert!(message_beside(&html, field).is_some(), "edit: no message beside {field}");
+        assert!(
+            message_beside(&html, field).is_some(),
+            "edit: no message beside {field}"
+        );
     }
     // Its own code is no clash: the same bad date alone gives one message.
-    let fields = with(&with(&full_form("S-0002"), "collected_on", "2026-02-30"), "revision", "1");
-    let r = s.submit(&format!("/samples/{id}/edit"), &form_body(&fields)).await;
+    let fields = with(
+        &with(&full_form("S-0002"), "collected_on", "2026-02-30"),
+        "revision",
+        "1",
+    );
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&fields))
+        .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     let html = r.text();
     assert!(message_beside(&html, "collected_on").is_some());
-    assert_eq!(message_beside(&html, "sample_code"), None, "its own code is not taken");
+    assert_eq!(
+        message_beside(&html, "sample_code"),
+        None,
+        "its own code is not taken"
+    );
     let rec = app.get(&format!("/api/v1/samples/{id}")).await.json();
-    assert_eq!((rec["sample_code"].as_str(), rec["revision"].as_i64()), (Some("S-0002"), Some(1)));
+    assert_eq!(
+        (rec["sample_code"].as_str(), rec["revision"].as_i64()),
+        (Some("S-0002"), Some(1))
+    );
 }
 
 #[tokio::test]
@@ -933,7 +959,10 @@ async fn coordinates_typed_as_field_gps_units_show_them_are_saved_as_decimal_deg
         assert!((x + 20.3021).abs() < 1e-9, "{lon} saved as {x}");
         // The record page shows decimal degrees and DMS as before.
         let page = s.get(&r.location()).await.text();
-        assert!(page.contains("−41.50500°") && page.contains("41°30′18.0″ S"), "{lat}");
+        assert!(
+            page.contains("−41.50500°") && page.contains("41°30′18.0″ S"),
+            "{lat}"
+        );
     }
     // A refused form says beside the coordinate what it was read as.
     let fields = with(
@@ -947,12 +976,18 @@ async fn coordinates_typed_as_field_gps_units_show_them_are_saved_as_decimal_deg
     let read = reading_beside(&html, "latitude").expect("a reading beside the latitude");
     assert!(read.contains("read as −41.505000°"), "{read}");
     assert!(read.contains("41°30′18.0″ S"), "{read}");
-    assert_eq!(input_value(&html, "latitude").as_deref(), Some("41°30′18″S"));
+    assert_eq!(
+        input_value(&html, "latitude").as_deref(),
+        Some("41°30′18″S")
+    );
     // An unreadable one gets the accepted forms instead, and no reading.
     let fields = with(&full_form("S-0100"), "latitude", "41 30 18 S 5");
     let html = create(&mut s, &fields).await.text();
     let msg = message_beside(&html, "latitude").expect("a message");
-    assert!(msg.contains("41°30′18″S") && msg.contains("41 30.3 S"), "{msg}");
+    assert!(
+        msg.contains("41°30′18″S") && msg.contains("41 30.3 S"),
+        "{msg}"
+    );
     assert_eq!(reading_beside(&html, "latitude"), None);
 }
 
@@ -982,20 +1017,34 @@ async fn a_collection_date_in_the_future_is_refused_on_the_form_and_the_api() {
     // Auckland is already on 5 December at 2026-12-04 12:30 UTC.
     let app = app_at("Pacific/Auckland", "2026-12-04T12:30:00Z").await;
     let mut s = Session::new(&app);
-    let r = create(&mut s, &with(&full_form("S-0001"), "collected_on", "2026-12-06")).await;
+    let r = create(
+        &mut s,
+        &with(&full_form("S-0001"), "collected_on", "2026-12-06"),
+    )
+    .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     let html = r.text();
     let msg = message_beside(&html, "collected_on").expect("a message beside the date");
     assert!(msg.contains("after today (2026-12-05)"), "{msg}");
-    assert_eq!(input_value(&html, "collected_on").as_deref(), Some("2026-12-06"));
+    assert_eq!(
+        input_value(&html, "collected_on").as_deref(),
+        Some("2026-12-06")
+    );
     // Today there is accepted, although it is still the 4th in UTC.
-    let r = create(&mut s, &with(&full_form("S-0001"), "collected_on", "2026-12-05")).await;
+    let r = create(
+        &mut s,
+        &with(&full_form("S-0001"), "collected_on", "2026-12-05"),
+    )
+    .await;
     assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
     let id = r.location().trim_start_matches("/samples/").to_string();
 
     // The JSON API refuses it too, on create and on update.
     let r = app
-        .post_json("/api/v1/samples", r#"{"sample_code": "A-1", "collected_on": "2026-12-06"}"#)
+        .post_json(
+            "/api/v1/samples",
+            r#"{"sample_code": "A-1", "collected_on": "2026-12-06"}"#,
+        )
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     let (field, message) = r.error();
@@ -1010,7 +1059,10 @@ async fn a_collection_date_in_the_future_is_refused_on_the_form_and_the_api() {
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(r.error().0, "collected_on");
     let r = app
-        .post_json("/api/v1/samples", r#"{"sample_code": "A-1", "collected_on": "2026-12-05"}"#)
+        .post_json(
+            "/api/v1/samples",
+            r#"{"sample_code": "A-1", "collected_on": "2026-12-05"}"#,
+        )
         .await;
     assert_eq!(r.status, StatusCode::CREATED, "{}", r.text());
 }
@@ -1024,13 +1076,22 @@ async fn times_on_the_record_and_its_history_are_shown_in_the_zone_with_the_offs
     .await;
     let mut s = Session::new(&app);
     let id = created(&mut s, "S-0001").await;
-    let fields = with(&with(&full_form("S-0001"), "station", "Ridge cut 9"), "revision", "1");
-    let r = s.submit(&format!("/samples/{id}/edit"), &form_body(&fields)).await;
+    let fields = with(
+        &with(&full_form("S-0001"), "station", "Ridge cut 9"),
+        "revision",
+        "1",
+    );
+    let r = s
+        .submit(&format!("/samples/{id}/edit"), &form_body(&fields))
+        .await;
     assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.text());
     let html = s.get(&format!("/samples/{id}")).await.text();
     // Created, last changed, and the two revisions of the history.
     assert!(html.matches(" +05:30").count() >= 4, "{html}");
-    assert!(!html.contains(" UTC"), "times are no longer shown in UTC: {html}");
+    assert!(
+        !html.contains(" UTC"),
+        "times are no longer shown in UTC: {html}"
+    );
     // The stored times stay UTC.
     let rec = app.get(&format!("/api/v1/samples/{id}")).await.json();
     let created_at = rec["created_at"].as_str().expect("created_at");
@@ -1061,7 +1122,10 @@ fn a_bad_time_zone_name_stops_the_service_at_start_with_a_clear_message() {
         assert!(!out.status.success(), "{env:?} {args:?}: started");
         let err = String::from_utf8_lossy(&out.stderr);
         assert!(err.contains("Mars/Olympus_Mons"), "{err}");
-        assert!(err.contains("is not a time zone of the IANA database"), "{err}");
+        assert!(
+            err.contains("is not a time zone of the IANA database"),
+            "{err}"
+        );
         assert!(err.contains("Pacific/Auckland"), "{err}");
         assert!(!dir.path().join("tz.sqlite").exists(), "nothing was opened");
     }
