@@ -1015,3 +1015,259 @@ async fn exports_larger_than_one_batch_hold_every_sample_once() {
     ids.dedup();
     assert_eq!(ids.len(), n);
 }
+
+// ---------------------------------------------------------------- fields the service sets
+
+#[tokio::test]
+async fn a_create_refuses_every_field_the_service_sets_by_name() {
+    // Arrange
+    let app = TestApp::new().await;
+    let cases: &[(&str, Value)] = &[
+        ("id", json!(uuid::Uuid::new_v4().to_string())),
+        ("created_at", json!("2026-07-14T09:30:00.000Z")),
+        ("updated_at", json!("2026-07-14T09:30:00.000Z")),
+        ("identification", json!({"candidates": []})),
+        ("base_version", json!("base-1")),
+        ("deleted", json!(false)),
+        ("revision", json!(1)),
+    ];
+    for (field, value) in cases {
+        let mut body = json!({"sample_code": format!("BV-{field}")});
+        body[*field] = value.clone();
+        // Act
+        let r = app.post_json(SAMPLES, &body.to_string()).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field}: {}",
+            r.text()
+        );
+        let (f, message) = r.error();
+        assert_eq!(f, *field);
+        assert!(message.contains("leave it out"), "{message}");
+        if *field == "id" {
+            assert!(message.contains("assigns"), "{message}");
+        }
+    }
+    assert!(list_codes(&app, "").await.is_empty(), "nothing was saved");
+}
+
+#[tokio::test]
+async fn a_field_the_record_does_not_have_is_refused_on_create_and_update() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let mut body = app.get(&url(&rec["id"])).await.json();
+    body["deleted_at"] = json!("2026-07-14T09:30:00.000Z");
+    // Act
+    let post = app
+        .post_json(SAMPLES, r#"{"sample_code": "X1", "top_candidate": "talc"}"#)
+        .await;
+    let put = app.put_json(&url(&rec["id"]), &body.to_string()).await;
+    // Assert
+    assert_eq!(post.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(post.error().0, "top_candidate");
+    assert_eq!(put.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(put.error().0, "deleted_at");
+}
+
+#[tokio::test]
+async fn an_update_refuses_each_changed_field_the_service_sets_by_name() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let fetched = app.get(&url(&rec["id"])).await.json();
+    let cases: &[(&str, Value)] = &[
+        ("created_at", json!("2020-01-01T00:00:00.000Z")),
+        ("updated_at", json!("2020-01-01T00:00:00.000Z")),
+        ("identification", json!({"candidates": []})),
+        ("base_version", json!("base-0")),
+        ("deleted", json!(true)),
+        ("id", json!(uuid::Uuid::new_v4().to_string())),
+    ];
+    for (field, value) in cases {
+        let mut body = fetched.clone();
+        body[*field] = value.clone();
+        body["notes"] = json!("changed");
+        // Act
+        let r = app.put_json(&url(&rec["id"]), &body.to_string()).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field}: {}",
+            r.text()
+        );
+        assert_eq!(r.error().0, *field);
+    }
+    let now = app.get(&url(&rec["id"])).await.json();
+    assert_eq!(now["revision"], 1, "nothing was saved");
+    assert_eq!(now["notes"], rec["notes"]);
+}
+
+#[tokio::test]
+async fn a_fetched_record_sent_back_unchanged_but_for_its_note_makes_a_new_revision() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let mut body = app.get(&url(&rec["id"])).await.json();
+    for field in [
+        "id",
+        "created_at",
+        "updated_at",
+        "identification",
+        "base_version",
+        "deleted",
+    ] {
+        assert!(body.get(field).is_some(), "a GET returns {field}");
+    }
+    body["notes"] = json!("flakes bend and stay bent; pale green streak");
+    // Act
+    let r = app.put_json(&url(&rec["id"]), &body.to_string()).await;
+    // Assert
+    assert_eq!(r.status, StatusCode::OK, "{}", r.text());
+    let v = r.json();
+    assert_eq!(v["revision"], 2);
+    assert_eq!(v["notes"], "flakes bend and stay bent; pale green streak");
+    assert_eq!(v["id"], rec["id"]);
+    assert_eq!(v["created_at"], rec["created_at"]);
+}
+
+#[tokio::test]
+async fn a_stale_record_sent_back_whole_is_still_a_conflict_not_a_refusal() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let old = app.get(&url(&rec["id"])).await.json();
+    let mut first = old.clone();
+    first["station"] = json!("BV-13");
+    assert_eq!(
+        app.put_json(&url(&rec["id"]), &first.to_string())
+            .await
+            .status,
+        StatusCode::OK
+    );
+    let mut second = old;
+    second["notes"] = json!("late edit");
+    // Act
+    let r = app.put_json(&url(&rec["id"]), &second.to_string()).await;
+    // Assert: updated_at differs now, but the answer is the 409 that shows
+    // the current record.
+    assert_eq!(r.status, StatusCode::CONFLICT, "{}", r.text());
+    assert_eq!(r.error().0, "revision");
+}
+
+// ---------------------------------------------------------------- invisible and control characters
+
+#[tokio::test]
+async fn bidirectional_and_control_characters_are_refused_naming_field_and_character() {
+    // Arrange
+    let app = TestApp::new().await;
+    let cases: &[(&str, &str, &str)] = &[
+        ("sample_code", "BV-\u{202E}100", "U+202E"),
+        ("sample_code", "BV-\u{2066}1", "U+2066"),
+        ("sample_code", "BV-\u{200F}1", "U+200F"),
+        ("sample_code", "BV-\u{0007}1", "U+0007"),
+        ("project", "bv\u{202D}", "U+202D"),
+        ("station", "BV\u{061C}-12", "U+061C"),
+        ("collector", "Field crew\u{200E} A", "U+200E"),
+        ("collector", "Field\tcrew", "U+0009"),
+        ("lithology", "phyl\u{0085}lite", "U+0085"),
+        ("lithology", "two\nlines", "U+000A"),
+        ("notes", "flakes \u{202B}bend", "U+202B"),
+        ("notes", "bell\u{0007}", "U+0007"),
+        ("notes", "lone\rreturn", "U+000D"),
+        ("edited_by", "crew\u{2069}", "U+2069"),
+    ];
+    for (field, value, code) in cases {
+        let mut body = json!({"sample_code": "BV-1"});
+        body[*field] = json!(value);
+        // Act
+        let r = app.post_json(SAMPLES, &body.to_string()).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field} {value:?}: {}",
+            r.text()
+        );
+        let (f, message) = r.error();
+        assert_eq!(f, *field, "{value:?}");
+        assert!(message.contains(code), "{field}: {message}");
+    }
+    assert!(list_codes(&app, "").await.is_empty(), "nothing was saved");
+}
+
+#[tokio::test]
+async fn notes_keep_their_line_breaks_and_tabs() {
+    let app = TestApp::new().await;
+    let notes = "first line\r\nsecond\tline\nthird";
+    let rec = create(&app, &json!({"sample_code": "BV-1", "notes": notes})).await;
+    assert_eq!(rec["notes"], notes);
+}
+
+#[tokio::test]
+async fn a_lone_surrogate_is_refused_naming_its_field_in_plain_words() {
+    // Arrange
+    let app = TestApp::new().await;
+    for (body, field) in [
+        (r#"{"sample_code": "BV-1", "notes": "a\ud800b"}"#, "notes"),
+        (r#"{"sample_code": "BV-1", "station": "\udc00"}"#, "station"),
+        (r#"{"sample_code": "\ud800"}"#, "sample_code"),
+    ] {
+        // Act
+        let r = app.post_json(SAMPLES, body).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{body}: {}",
+            r.text()
+        );
+        let (f, message) = r.error();
+        assert_eq!(f, field, "{body}");
+        assert!(message.contains("surrogate"), "{message}");
+        assert!(
+            !message.contains("hex escape"),
+            "our words, not the parser's: {message}"
+        );
+    }
+    let r = app.identify(r#"{"colour": ["\ud800"]}"#).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.text());
+    assert_eq!(r.error().0, "colour[0]");
+    assert!(!r.error().1.contains("hex escape"), "{}", r.error().1);
+}
+
+// ---------------------------------------------------------------- repeated query parameters
+
+#[tokio::test]
+async fn a_repeated_query_parameter_is_refused_with_400_naming_it() {
+    // Arrange
+    let app = TestApp::new().await;
+    scenario(&app).await;
+    for uri in [
+        format!("{SAMPLES}?project=bv&project=default"),
+        format!("{SAMPLES}?limit=2&q=chlorite&limit=3"),
+        "/export/samples.csv?field_id=chlorite&field_id=talc".to_string(),
+        "/export/samples.geojson?setting=greenschist&setting=".to_string(),
+    ] {
+        // Act
+        let r = app.get(&uri).await;
+        // Assert
+        assert_eq!(r.status, StatusCode::BAD_REQUEST, "{uri}: {}", r.text());
+        let (field, message) = r.error();
+        let name = uri
+            .split(['?', '&'])
+            .nth(1)
+            .and_then(|kv| kv.split('=').next())
+            .expect("first parameter");
+        let repeated = if uri.contains("limit=2") {
+            "limit"
+        } else {
+            name
+        };
+        assert_eq!(field, repeated, "{uri}");
+        assert!(message.contains("once"), "{message}");
+    }
+}
