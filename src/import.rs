@@ -278,7 +278,9 @@ fn check_record(
     row(line, &cells, project, engine.base(), engine).map(|item| (line, item))
 }
 
-/// The cells of one row, by column name; blank cells read as absent.
+/// The cells of one row, by column name; blank cells read as absent, and
+/// the export's quote before a formula character is taken away
+/// ([`crate::samples::csv_cell_in`]).
 struct Cells<'a> {
     rec: &'a csv::StringRecord,
     index: &'a std::collections::HashMap<String, usize>,
@@ -289,7 +291,7 @@ impl<'a> Cells<'a> {
         self.index
             .get(column)
             .and_then(|&i| self.rec.get(i))
-            .map(str::trim)
+            .map(|v| crate::samples::csv_cell_in(v.trim()).trim())
             .filter(|v| !v.is_empty())
     }
 }

@@ -46,6 +46,54 @@ pub const CSV_COLUMNS: &[&str] = &[
     "top_probability",
 ];
 
+/// Columns that hold numbers. A cell of one of them that reads as a number
+/// goes out as it is (a western longitude stays `-20.306`); every other
+/// cell goes through [`csv_cell_out`].
+pub const CSV_NUMBER_COLUMNS: &[&str] = &[
+    "latitude",
+    "longitude",
+    "coordinate_uncertainty_m",
+    "revision",
+    "top_probability",
+];
+
+/// First characters that make a spreadsheet read a cell as a formula
+/// (OWASP, "CSV Injection": `=`, `+`, `-`, `@`, tab, carriage return).
+const FORMULA_START: &[char] = &['=', '+', '-', '@', '\t', '\r'];
+
+/// Whether `s`, after any single quotes it starts with, begins with a
+/// formula character.
+fn quoted_formula(s: &str) -> bool {
+    s.trim_start_matches('\'').starts_with(FORMULA_START)
+}
+
+/// A text cell for the CSV export, safe to open in a spreadsheet: a cell
+/// that starts with a formula character gets a single quote in front, as
+/// OWASP's CSV Injection guidance says, so the spreadsheet shows it as
+/// text. A cell that already starts with single quotes before such a
+/// character gets one more, so that [`csv_cell_in`], which takes exactly
+/// one away, gives back what was stored whatever it was.
+pub fn csv_cell_out(column: &str, cell: String) -> String {
+    if CSV_NUMBER_COLUMNS.contains(&column) && cell.parse::<f64>().is_ok() {
+        return cell;
+    }
+    if quoted_formula(&cell) {
+        format!("'{cell}")
+    } else {
+        cell
+    }
+}
+
+/// A cell as the import reads it: one leading single quote before a
+/// formula character (after any further quotes) is taken away, undoing
+/// [`csv_cell_out`]. Any other cell is left as it is.
+pub fn csv_cell_in(cell: &str) -> &str {
+    match cell.strip_prefix('\'') {
+        Some(rest) if quoted_formula(rest) => rest,
+        _ => cell,
+    }
+}
+
 /// A sample record as a client sends it (create or whole-record update).
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -728,6 +776,53 @@ mod tests {
         ] {
             let e = valid_code_scheme(bad).expect_err(bad);
             assert_eq!(e.field, "code_scheme");
+        }
+    }
+    #[test]
+    fn csv_cells_that_a_spreadsheet_would_run_are_quoted_and_come_back_as_stored() {
+        // (stored, exported) for a text column.
+        let table = [
+            ("=1+1", "'=1+1"),
+            (
+                "=HYPERLINK(\"http://example.invalid\",\"x\")",
+                "'=HYPERLINK(\"http://example.invalid\",\"x\")",
+            ),
+            ("'=x", "''=x"),
+            ("''@y", "'''@y"),
+            ("'plain", "'plain"),
+            ("-", "'-"),
+            ("-5 m", "'-5 m"),
+            ("@home", "'@home"),
+            ("\tx", "'\tx"),
+            ("\rx", "'\rx"),
+            ("+", "'+"),
+            ("'", "'"),
+            ("plain", "plain"),
+            ("", ""),
+        ];
+        for (stored, exported) in table {
+            assert_eq!(
+                csv_cell_out("notes", stored.to_string()),
+                exported,
+                "{stored:?}"
+            );
+            assert_eq!(csv_cell_in(exported), stored, "{exported:?}");
+        }
+        // Numbers in number columns stay numbers; text in them does not.
+        assert_eq!(csv_cell_out("longitude", "-20.306".into()), "-20.306");
+        assert_eq!(csv_cell_out("latitude", "-5 m".into()), "'-5 m");
+        assert_eq!(csv_cell_out("notes", "-20.306".into()), "'-20.306");
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(2000))]
+        #[test]
+        fn every_text_cell_round_trips_and_never_starts_a_formula(
+            s in "['=+@\\t\\ra-z -]{0,6}"
+        ) {
+            let out = csv_cell_out("notes", s.clone());
+            proptest::prop_assert!(!out.starts_with(FORMULA_START), "{:?}", out);
+            proptest::prop_assert_eq!(csv_cell_in(&out), s.as_str());
         }
     }
 }

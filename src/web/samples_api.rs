@@ -494,8 +494,18 @@ fn opt_num(x: Option<f64>) -> String {
     x.map(|v| v.to_string()).unwrap_or_default()
 }
 
-/// One CSV row of a record.
+/// One CSV row of a record, every text cell safe to open in a
+/// spreadsheet ([`crate::samples::csv_cell_out`]).
 pub fn csv_row(r: &SampleRecord) -> Vec<String> {
+    csv_cells(r)
+        .into_iter()
+        .zip(CSV_COLUMNS)
+        .map(|(cell, column)| crate::samples::csv_cell_out(column, cell))
+        .collect()
+}
+
+/// The cells of a record, as stored, in [`CSV_COLUMNS`] order.
+fn csv_cells(r: &SampleRecord) -> Vec<String> {
     let top = r.identification.candidates.first();
     vec![
         r.id.clone(),

@@ -1271,3 +1271,97 @@ async fn a_repeated_query_parameter_is_refused_with_400_naming_it() {
         assert!(message.contains("once"), "{message}");
     }
 }
+
+// ---------------------------------------------------------------- formulas in the CSV export
+
+#[tokio::test]
+async fn csv_cells_a_spreadsheet_would_run_are_quoted_and_an_import_gives_the_same_records() {
+    // Arrange: text a spreadsheet would take for a formula, in every free
+    // text field, and a western longitude.
+    let app = TestApp::new().await;
+    let tricky = [
+        "=1+1",
+        "'=x",
+        "'plain",
+        "-",
+        "@home",
+        "+",
+        "-5 m",
+        "=HYPERLINK(\"http://example.invalid\",\"open\")",
+        "''+2",
+    ];
+    for (i, t) in tricky.iter().enumerate() {
+        create(
+            &app,
+            &json!({
+                "sample_code": if i == 0 { (*t).to_string() } else { format!("BV-{i:02}") },
+                "collector": t,
+                "station": t,
+                "lithology": t,
+                "notes": format!("{t}\nsecond line"),
+                "latitude": 64.1,
+                "longitude": -20.306,
+            }),
+        )
+        .await;
+    }
+    create(
+        &app,
+        &json!({"sample_code": "BV-tab", "notes": "'\tx", "latitude": 64.1, "longitude": -20.306}),
+    )
+    .await;
+    let before = app.get(&format!("{SAMPLES}?limit=500")).await.json();
+    // Act
+    let r = app.get("/export/samples.csv").await;
+    // Assert: the cells as a spreadsheet sees them.
+    assert_eq!(r.status, StatusCode::OK);
+    let mut rd = csv::Reader::from_reader(r.body.as_slice());
+    let headers = rd.headers().expect("header").clone();
+    let col = |name: &str| headers.iter().position(|h| h == name).expect("column");
+    let rows: Vec<csv::StringRecord> = rd.records().map(|r| r.expect("row")).collect();
+    for row in &rows {
+        for (i, cell) in row.iter().enumerate() {
+            let column = &headers[i];
+            let numeric = [
+                "latitude",
+                "longitude",
+                "coordinate_uncertainty_m",
+                "revision",
+                "top_probability",
+            ]
+            .contains(&column)
+                && cell.parse::<f64>().is_ok();
+            assert!(
+                numeric || !cell.starts_with(['=', '+', '-', '@', '\t', '\r']),
+                "{column} starts a formula: {cell:?}"
+            );
+        }
+        assert_eq!(&row[col("longitude")], "-20.306");
+    }
+    let first = rows
+        .iter()
+        .find(|r| &r[col("sample_code")] == "'=1+1")
+        .expect("the =1+1 row, quoted");
+    assert_eq!(&first[col("station")], "'=1+1");
+    let quoted = rows
+        .iter()
+        .find(|r| &r[col("sample_code")] == "BV-01")
+        .expect("BV-01");
+    assert_eq!(&quoted[col("collector")], "''=x");
+    let plain = rows
+        .iter()
+        .find(|r| &r[col("sample_code")] == "BV-02")
+        .expect("BV-02");
+    assert_eq!(&plain[col("collector")], "'plain");
+
+    // Act: import the file into an empty log.
+    let other = TestApp::new().await;
+    let pool = other.pool().await;
+    let report = basal::import::run(&pool, &r.body, "default", false, None, &|| {}, &|_| {})
+        .await
+        .expect("import");
+    // Assert: the same records, field for field.
+    assert!(report.errors.is_empty(), "{:?}", report.errors);
+    let after = other.get(&format!("{SAMPLES}?limit=500")).await.json();
+    assert_eq!(after["samples"], before["samples"]);
+}
