@@ -464,12 +464,32 @@ pub struct ImportReport {
     pub errors: Vec<RowError>,
 }
 
+/// The name and code scheme to give the project when the import creates
+/// it. Either may be left out: a new project is then named by its code
+/// and numbers its samples `{seq:4}`. When the project exists already,
+/// a name or scheme that differs from its own is refused (the import never
+/// changes a project; the projects page does).
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct NewProject {
+    /// The project's name.
+    pub name: Option<String>,
+    /// The project's sample-code scheme.
+    pub code_scheme: Option<String>,
+}
+
+/// The scheme of a project the import creates without being given one.
+pub const DEFAULT_SCHEME: &str = "{seq:4}";
+
 /// Why an import could not run at all.
 #[derive(Debug, thiserror::Error)]
 pub enum RunError {
     /// The file as a whole is unusable (header, project code).
     #[error("{0}")]
     File(RowError),
+    /// The project's name or scheme is refused; the field is `name` or
+    /// `code_scheme`.
+    #[error("{}", .0.message)]
+    Project(crate::engine::FieldError),
     /// Writing failed; nothing was written.
     #[error("{0}")]
     Write(#[from] crate::store::samples::WriteError),
@@ -478,19 +498,81 @@ pub enum RunError {
     Store(#[from] crate::store::StoreError),
 }
 
+/// Checks the name and scheme for `project`; `existing` is the project
+/// when it exists. The name and scheme to create it with, or `None` when
+/// it exists already.
+pub fn project_settings(
+    project: &str,
+    new: &NewProject,
+    existing: Option<&crate::store::samples::Project>,
+) -> Result<Option<(String, String)>, crate::engine::FieldError> {
+    use crate::engine::FieldError;
+    let blank = |v: &Option<String>| {
+        v.as_deref()
+            .map(str::trim)
+            .filter(|v| !v.is_empty())
+            .map(str::to_string)
+    };
+    let name = blank(&new.name)
+        .map(|n| crate::samples::valid_project_name(&n))
+        .transpose()?;
+    let scheme = blank(&new.code_scheme);
+    if let Some(s) = &scheme {
+        crate::samples::valid_code_scheme(s)?;
+    }
+    let Some(p) = existing else {
+        return Ok(Some((
+            name.unwrap_or_else(|| project.to_string()),
+            scheme.unwrap_or_else(|| DEFAULT_SCHEME.to_string()),
+        )));
+    };
+    let edit = format!("change it on the projects page (/projects/{project}/edit)");
+    if let Some(n) = name
+        && n != p.name
+    {
+        return Err(FieldError::new(
+            "name",
+            format!(
+                "project {project} exists already, named \"{}\"; a name here only names a new project. Leave it blank, or {edit}",
+                p.name
+            ),
+        ));
+    }
+    if let Some(s) = scheme
+        && s != p.code_scheme
+    {
+        return Err(FieldError::new(
+            "code_scheme",
+            format!(
+                "project {project} exists already, with the code scheme {}; a scheme here only applies to a new project. Leave it blank, or {edit}",
+                p.code_scheme
+            ),
+        ));
+    }
+    Ok(None)
+}
+
 /// Checks every row of `data` and, when none is refused and this is not a
-/// dry run, writes them all in one transaction (creating the project when
-/// it does not exist). `checked` is told after each row read, `written`
-/// after each row written.
+/// dry run, writes them all in one transaction (creating the project, with
+/// the name and scheme of `new`, when it does not exist). `checked` is told
+/// after each row read, `written` after each row written.
+#[allow(clippy::too_many_arguments)]
 pub async fn run(
     pool: &sqlx::SqlitePool,
     data: &[u8],
     project: &str,
+    new: &NewProject,
     dry_run: bool,
     author: Option<&str>,
     checked: &(dyn Fn() + Sync),
     written: &(dyn Fn(u64) + Sync),
 ) -> Result<ImportReport, RunError> {
+    let existing = if valid_project_code(project) {
+        crate::store::samples::project(pool, project).await?
+    } else {
+        None
+    };
+    let create = project_settings(project, new, existing.as_ref()).map_err(RunError::Project)?;
     let taken: HashSet<String> = crate::store::samples::codes_in(pool, project)
         .await?
         .into_iter()
@@ -530,7 +612,9 @@ pub async fn run(
             errors: c.errors,
         });
     }
-    crate::store::samples::create_project(pool, project, project, "{seq:4}").await?;
+    if let Some((name, scheme)) = &create {
+        crate::store::samples::create_project(pool, project, name, scheme).await?;
+    }
     let n = crate::store::samples::import_all(pool, &c.items, author, written).await?;
     Ok(ImportReport {
         valid,

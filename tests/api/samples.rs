@@ -1357,9 +1357,18 @@ async fn csv_cells_a_spreadsheet_would_run_are_quoted_and_an_import_gives_the_sa
     // Act: import the file into an empty log.
     let other = TestApp::new().await;
     let pool = other.pool().await;
-    let report = basal::import::run(&pool, &r.body, "default", false, None, &|| {}, &|_| {})
-        .await
-        .expect("import");
+    let report = basal::import::run(
+        &pool,
+        &r.body,
+        "default",
+        &Default::default(),
+        false,
+        None,
+        &|| {},
+        &|_| {},
+    )
+    .await
+    .expect("import");
     // Assert: the same records, field for field.
     assert!(report.errors.is_empty(), "{:?}", report.errors);
     let after = other.get(&format!("{SAMPLES}?limit=500")).await.json();
