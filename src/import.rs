@@ -706,4 +706,78 @@ mod tests {
         let c = run("project,sample_code\nother,C1\n");
         assert_eq!(c.errors[0].column, "project");
     }
+    fn stored(name: &str, scheme: &str) -> crate::store::samples::Project {
+        crate::store::samples::Project {
+            code: "bv".into(),
+            name: name.into(),
+            code_scheme: scheme.into(),
+            created_at: "2026-07-01T08:00:00.000Z".into(),
+            updated_at: None,
+        }
+    }
+
+    #[test]
+    fn a_new_project_takes_the_name_and_scheme_given_or_the_defaults() {
+        let given = NewProject {
+            name: Some(" Ridge survey ".into()),
+            code_scheme: Some("RG-{seq:3}".into()),
+        };
+        assert_eq!(
+            project_settings("bv", &given, None),
+            Ok(Some(("Ridge survey".into(), "RG-{seq:3}".into())))
+        );
+        assert_eq!(
+            project_settings("bv", &NewProject::default(), None),
+            Ok(Some(("bv".into(), DEFAULT_SCHEME.into())))
+        );
+        let bad = NewProject {
+            code_scheme: Some("RG-".into()),
+            ..Default::default()
+        };
+        assert_eq!(
+            project_settings("bv", &bad, None).expect_err("no sequence").field,
+            "code_scheme"
+        );
+    }
+
+    #[test]
+    fn an_existing_project_refuses_another_name_or_scheme_and_takes_its_own() {
+        let p = stored("Ridge survey", "RG-{seq:3}");
+        assert_eq!(project_settings("bv", &NewProject::default(), Some(&p)), Ok(None));
+        let same = NewProject {
+            name: Some("Ridge survey".into()),
+            code_scheme: Some("RG-{seq:3}".into()),
+        };
+        assert_eq!(project_settings("bv", &same, Some(&p)), Ok(None));
+        for (new, field) in [
+            (
+                NewProject {
+                    name: Some("Other".into()),
+                    ..Default::default()
+                },
+                "name",
+            ),
+            (
+                NewProject {
+                    code_scheme: Some("X-{seq:2}".into()),
+                    ..Default::default()
+                },
+                "code_scheme",
+            ),
+        ] {
+            let e = project_settings("bv", &new, Some(&p)).expect_err("refused");
+            assert_eq!(e.field, field);
+            assert!(e.message.contains("/projects/bv/edit"), "{}", e.message);
+        }
+    }
+
+    #[test]
+    fn a_quoted_formula_cell_is_read_without_its_quote() {
+        let c = run("sample_code,notes,latitude,longitude\n'=A1,'-5 m,'-45.5,-7.25\n");
+        assert!(c.errors.is_empty(), "{:?}", c.errors);
+        let s = &c.items[0].sample;
+        assert_eq!(s.sample_code, "=A1");
+        assert_eq!(s.notes.as_deref(), Some("-5 m"));
+        assert_eq!((s.latitude, s.longitude), (Some(-45.5), Some(-7.25)));
+    }
 }

@@ -581,3 +581,29 @@ async fn import_upload(
         Err(crate::import::RunError::Store(e)) => Err(e.into()),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_scheme_check_accepts_exactly_what_the_code_suggestion_understands() {
+        for scheme in [
+            "{seq:4}",
+            "BV-{yy}-{seq:4}",
+            "{year}/{seq:3}a",
+            "S{seq}",
+            "BV-",
+            "{seq:0}",
+            "{seq:13}",
+            "{seq:x}",
+            "{seq:4}-{seq:2}",
+            "{month}-{seq:4}",
+            "{seq:4",
+        ] {
+            let s = super::super::samples_pages::parse_scheme(scheme, 2026);
+            let understood = s.width.is_some() && !s.prefix.contains('{') && !s.suffix.contains('{');
+            assert_eq!(check_scheme(scheme).is_ok(), understood, "{scheme}");
+        }
+    }
+}
