@@ -735,7 +735,9 @@ mod tests {
             ..Default::default()
         };
         assert_eq!(
-            project_settings("bv", &bad, None).expect_err("no sequence").field,
+            project_settings("bv", &bad, None)
+                .expect_err("no sequence")
+                .field,
             "code_scheme"
         );
     }
@@ -743,7 +745,10 @@ mod tests {
     #[test]
     fn an_existing_project_refuses_another_name_or_scheme_and_takes_its_own() {
         let p = stored("Ridge survey", "RG-{seq:3}");
-        assert_eq!(project_settings("bv", &NewProject::default(), Some(&p)), Ok(None));
+        assert_eq!(
+            project_settings("bv", &NewProject::default(), Some(&p)),
+            Ok(None)
+        );
         let same = NewProject {
             name: Some("Ridge survey".into()),
             code_scheme: Some("RG-{seq:3}".into()),

@@ -602,7 +602,8 @@ mod tests {
             "{seq:4",
         ] {
             let s = super::super::samples_pages::parse_scheme(scheme, 2026);
-            let understood = s.width.is_some() && !s.prefix.contains('{') && !s.suffix.contains('{');
+            let understood =
+                s.width.is_some() && !s.prefix.contains('{') && !s.suffix.contains('{');
             assert_eq!(check_scheme(scheme).is_ok(), understood, "{scheme}");
         }
     }
