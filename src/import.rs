@@ -75,14 +75,8 @@ pub fn check(
     engine: &Engine,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Checked, RowError> {
-    if !valid_project_code(project) {
-        return Err(err(
-            0,
-            "",
-            format!(
-                "\"{project}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"
-            ),
-        ));
+    if let Err(e) = crate::samples::check_project_code("project", project) {
+        return Err(err(0, "", e.message));
     }
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
@@ -699,6 +693,20 @@ mod tests {
         let c = run("sample_code,observations\nB1,\"{\"\"cleavage\"\": \"\"perfect\"\"}\"\n");
         assert_eq!(c.errors.len(), 1);
         assert_eq!(c.errors[0].column, "observations.cleavage");
+    }
+
+    #[test]
+    fn a_project_code_with_a_hidden_character_is_named_by_its_code_point() {
+        let e = check(
+            b"sample_code\nA1\n",
+            "bv\u{202E}",
+            &HashSet::new(),
+            Engine::builtin(),
+            &|| {},
+        )
+        .err()
+        .expect("refused");
+        assert!(e.message.contains("U+202E"), "{}", e.message);
     }
 
     #[test]

@@ -1374,3 +1374,31 @@ async fn csv_cells_a_spreadsheet_would_run_are_quoted_and_an_import_gives_the_sa
     let after = other.get(&format!("{SAMPLES}?limit=500")).await.json();
     assert_eq!(after["samples"], before["samples"]);
 }
+
+#[tokio::test]
+async fn the_sample_form_refuses_the_same_characters_with_the_same_message_and_keeps_the_values() {
+    // Arrange
+    let app = TestApp::new().await;
+    let mut s = crate::helpers::Session::new(&app);
+    s.get("/samples/new").await;
+    for (fields, code) in [
+        ("sample_code=BV-%E2%80%AE9&notes=kept+note", "U+202E"),
+        ("sample_code=BV-9&notes=kept+note%E2%81%A6", "U+2066"),
+        ("sample_code=BV-9&station=BV%07&notes=kept+note", "U+0007"),
+        (
+            "sample_code=BV-9&notes=kept+note&edited_by=crew%E2%80%8F",
+            "U+200F",
+        ),
+    ] {
+        // Act
+        let r = s
+            .submit("/samples", &format!("project=default&{fields}"))
+            .await;
+        // Assert
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{fields}");
+        let html = r.text();
+        assert!(html.contains(code), "{fields}: no message naming {code}");
+        assert!(html.contains("kept note"), "{fields}: the values are kept");
+    }
+    assert!(list_codes(&app, "").await.is_empty(), "nothing was saved");
+}
