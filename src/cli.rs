@@ -54,6 +54,14 @@ pub enum Command {
         /// Who makes the import, for the records' history.
         #[arg(long)]
         author: Option<String>,
+        /// The sample-code scheme of a project the import creates (default
+        /// {seq:4}); refused when the project exists with another.
+        #[arg(long)]
+        scheme: Option<String>,
+        /// The name of a project the import creates (default: its code);
+        /// refused when the project exists with another.
+        #[arg(long)]
+        name: Option<String>,
     },
 }
 
@@ -214,6 +222,19 @@ pub async fn import(
     dry_run: bool,
     author: Option<&str>,
 ) -> Result<ImportReport, CommandError> {
+    import_new(config, file, project, &Default::default(), dry_run, author).await
+}
+
+/// `basal import FILE --project CODE [--name NAME] [--scheme SCHEME] [--dry-run]`:
+/// `new` names the project and its scheme when the import creates it.
+pub async fn import_new(
+    config: &Config,
+    file: &std::path::Path,
+    project: &str,
+    new: &crate::import::NewProject,
+    dry_run: bool,
+    author: Option<&str>,
+) -> Result<ImportReport, CommandError> {
     let data = std::fs::read(file)
         .map_err(|e| CommandError::Read(file.display().to_string(), e.to_string()))?;
     let pool = crate::store::open(&config.db).await?;
@@ -228,6 +249,7 @@ pub async fn import(
         &pool,
         &data,
         project,
+        new,
         dry_run,
         author,
         &|| checking.inc(1),
@@ -244,6 +266,11 @@ pub async fn import(
     pool.close().await;
     report.map_err(|e| match e {
         crate::import::RunError::File(e) => CommandError::Import(e.to_string()),
+        crate::import::RunError::Project(e) => CommandError::Import(format!(
+            "--{}: {}",
+            if e.field == "name" { "name" } else { "scheme" },
+            e.message
+        )),
         crate::import::RunError::Write(e) => CommandError::Write(e),
         crate::import::RunError::Store(e) => CommandError::Store(e),
     })

@@ -75,14 +75,8 @@ pub fn check(
     engine: &Engine,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Checked, RowError> {
-    if !valid_project_code(project) {
-        return Err(err(
-            0,
-            "",
-            format!(
-                "\"{project}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"
-            ),
-        ));
+    if let Err(e) = crate::samples::check_project_code("project", project) {
+        return Err(err(0, "", e.message));
     }
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
@@ -278,7 +272,9 @@ fn check_record(
     row(line, &cells, project, engine.base(), engine).map(|item| (line, item))
 }
 
-/// The cells of one row, by column name; blank cells read as absent.
+/// The cells of one row, by column name; blank cells read as absent, and
+/// the export's quote before a formula character is taken away
+/// ([`crate::samples::csv_cell_in`]).
 struct Cells<'a> {
     rec: &'a csv::StringRecord,
     index: &'a std::collections::HashMap<String, usize>,
@@ -289,7 +285,7 @@ impl<'a> Cells<'a> {
         self.index
             .get(column)
             .and_then(|&i| self.rec.get(i))
-            .map(str::trim)
+            .map(|v| crate::samples::csv_cell_in(v.trim()).trim())
             .filter(|v| !v.is_empty())
     }
 }
@@ -464,12 +460,32 @@ pub struct ImportReport {
     pub errors: Vec<RowError>,
 }
 
+/// The name and code scheme to give the project when the import creates
+/// it. Either may be left out: a new project is then named by its code
+/// and numbers its samples `{seq:4}`. When the project exists already,
+/// a name or scheme that differs from its own is refused (the import never
+/// changes a project; the projects page does).
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct NewProject {
+    /// The project's name.
+    pub name: Option<String>,
+    /// The project's sample-code scheme.
+    pub code_scheme: Option<String>,
+}
+
+/// The scheme of a project the import creates without being given one.
+pub const DEFAULT_SCHEME: &str = "{seq:4}";
+
 /// Why an import could not run at all.
 #[derive(Debug, thiserror::Error)]
 pub enum RunError {
     /// The file as a whole is unusable (header, project code).
     #[error("{0}")]
     File(RowError),
+    /// The project's name or scheme is refused; the field is `name` or
+    /// `code_scheme`.
+    #[error("{}", .0.message)]
+    Project(crate::engine::FieldError),
     /// Writing failed; nothing was written.
     #[error("{0}")]
     Write(#[from] crate::store::samples::WriteError),
@@ -478,19 +494,81 @@ pub enum RunError {
     Store(#[from] crate::store::StoreError),
 }
 
+/// Checks the name and scheme for `project`; `existing` is the project
+/// when it exists. The name and scheme to create it with, or `None` when
+/// it exists already.
+pub fn project_settings(
+    project: &str,
+    new: &NewProject,
+    existing: Option<&crate::store::samples::Project>,
+) -> Result<Option<(String, String)>, crate::engine::FieldError> {
+    use crate::engine::FieldError;
+    let blank = |v: &Option<String>| {
+        v.as_deref()
+            .map(str::trim)
+            .filter(|v| !v.is_empty())
+            .map(str::to_string)
+    };
+    let name = blank(&new.name)
+        .map(|n| crate::samples::valid_project_name(&n))
+        .transpose()?;
+    let scheme = blank(&new.code_scheme);
+    if let Some(s) = &scheme {
+        crate::samples::valid_code_scheme(s)?;
+    }
+    let Some(p) = existing else {
+        return Ok(Some((
+            name.unwrap_or_else(|| project.to_string()),
+            scheme.unwrap_or_else(|| DEFAULT_SCHEME.to_string()),
+        )));
+    };
+    let edit = format!("change it on the projects page (/projects/{project}/edit)");
+    if let Some(n) = name
+        && n != p.name
+    {
+        return Err(FieldError::new(
+            "name",
+            format!(
+                "project {project} exists already, named \"{}\"; a name here only names a new project. Leave it blank, or {edit}",
+                p.name
+            ),
+        ));
+    }
+    if let Some(s) = scheme
+        && s != p.code_scheme
+    {
+        return Err(FieldError::new(
+            "code_scheme",
+            format!(
+                "project {project} exists already, with the code scheme {}; a scheme here only applies to a new project. Leave it blank, or {edit}",
+                p.code_scheme
+            ),
+        ));
+    }
+    Ok(None)
+}
+
 /// Checks every row of `data` and, when none is refused and this is not a
-/// dry run, writes them all in one transaction (creating the project when
-/// it does not exist). `checked` is told after each row read, `written`
-/// after each row written.
+/// dry run, writes them all in one transaction (creating the project, with
+/// the name and scheme of `new`, when it does not exist). `checked` is told
+/// after each row read, `written` after each row written.
+#[allow(clippy::too_many_arguments)]
 pub async fn run(
     pool: &sqlx::SqlitePool,
     data: &[u8],
     project: &str,
+    new: &NewProject,
     dry_run: bool,
     author: Option<&str>,
     checked: &(dyn Fn() + Sync),
     written: &(dyn Fn(u64) + Sync),
 ) -> Result<ImportReport, RunError> {
+    let existing = if valid_project_code(project) {
+        crate::store::samples::project(pool, project).await?
+    } else {
+        None
+    };
+    let create = project_settings(project, new, existing.as_ref()).map_err(RunError::Project)?;
     let taken: HashSet<String> = crate::store::samples::codes_in(pool, project)
         .await?
         .into_iter()
@@ -530,7 +608,9 @@ pub async fn run(
             errors: c.errors,
         });
     }
-    crate::store::samples::create_project(pool, project, project, "{seq:4}").await?;
+    if let Some((name, scheme)) = &create {
+        crate::store::samples::create_project(pool, project, name, scheme).await?;
+    }
     let n = crate::store::samples::import_all(pool, &c.items, author, written).await?;
     Ok(ImportReport {
         valid,
@@ -618,8 +698,101 @@ mod tests {
     }
 
     #[test]
+    fn a_project_code_with_a_hidden_character_is_named_by_its_code_point() {
+        let e = check(
+            b"sample_code\nA1\n",
+            "bv\u{202E}",
+            &HashSet::new(),
+            Engine::builtin(),
+            &|| {},
+        )
+        .err()
+        .expect("refused");
+        assert!(e.message.contains("U+202E"), "{}", e.message);
+    }
+
+    #[test]
     fn a_row_for_another_project_is_refused() {
         let c = run("project,sample_code\nother,C1\n");
         assert_eq!(c.errors[0].column, "project");
+    }
+    fn stored(name: &str, scheme: &str) -> crate::store::samples::Project {
+        crate::store::samples::Project {
+            code: "bv".into(),
+            name: name.into(),
+            code_scheme: scheme.into(),
+            created_at: "2026-07-01T08:00:00.000Z".into(),
+            updated_at: None,
+        }
+    }
+
+    #[test]
+    fn a_new_project_takes_the_name_and_scheme_given_or_the_defaults() {
+        let given = NewProject {
+            name: Some(" Ridge survey ".into()),
+            code_scheme: Some("RG-{seq:3}".into()),
+        };
+        assert_eq!(
+            project_settings("bv", &given, None),
+            Ok(Some(("Ridge survey".into(), "RG-{seq:3}".into())))
+        );
+        assert_eq!(
+            project_settings("bv", &NewProject::default(), None),
+            Ok(Some(("bv".into(), DEFAULT_SCHEME.into())))
+        );
+        let bad = NewProject {
+            code_scheme: Some("RG-".into()),
+            ..Default::default()
+        };
+        assert_eq!(
+            project_settings("bv", &bad, None)
+                .expect_err("no sequence")
+                .field,
+            "code_scheme"
+        );
+    }
+
+    #[test]
+    fn an_existing_project_refuses_another_name_or_scheme_and_takes_its_own() {
+        let p = stored("Ridge survey", "RG-{seq:3}");
+        assert_eq!(
+            project_settings("bv", &NewProject::default(), Some(&p)),
+            Ok(None)
+        );
+        let same = NewProject {
+            name: Some("Ridge survey".into()),
+            code_scheme: Some("RG-{seq:3}".into()),
+        };
+        assert_eq!(project_settings("bv", &same, Some(&p)), Ok(None));
+        for (new, field) in [
+            (
+                NewProject {
+                    name: Some("Other".into()),
+                    ..Default::default()
+                },
+                "name",
+            ),
+            (
+                NewProject {
+                    code_scheme: Some("X-{seq:2}".into()),
+                    ..Default::default()
+                },
+                "code_scheme",
+            ),
+        ] {
+            let e = project_settings("bv", &new, Some(&p)).expect_err("refused");
+            assert_eq!(e.field, field);
+            assert!(e.message.contains("/projects/bv/edit"), "{}", e.message);
+        }
+    }
+
+    #[test]
+    fn a_quoted_formula_cell_is_read_without_its_quote() {
+        let c = run("sample_code,notes,latitude,longitude\n'=A1,'-5 m,'-45.5,-7.25\n");
+        assert!(c.errors.is_empty(), "{:?}", c.errors);
+        let s = &c.items[0].sample;
+        assert_eq!(s.sample_code, "=A1");
+        assert_eq!(s.notes.as_deref(), Some("-5 m"));
+        assert_eq!((s.latitude, s.longitude), (Some(-45.5), Some(-7.25)));
     }
 }

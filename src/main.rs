@@ -28,7 +28,21 @@ async fn main() -> std::process::ExitCode {
             project,
             dry_run,
             author,
-        } => match basal::cli::import(&config, &file, &project, dry_run, author.as_deref()).await {
+            scheme,
+            name,
+        } => match basal::cli::import_new(
+            &config,
+            &file,
+            &project,
+            &basal::import::NewProject {
+                name,
+                code_scheme: scheme,
+            },
+            dry_run,
+            author.as_deref(),
+        )
+        .await
+        {
             Err(e) => Err(e.into()),
             Ok(r) if !r.errors.is_empty() => {
                 for e in &r.errors {

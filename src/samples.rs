@@ -54,6 +54,54 @@ pub const CSV_COLUMNS: &[&str] = &[
     "top_probability",
 ];
 
+/// Columns that hold numbers. A cell of one of them that reads as a number
+/// goes out as it is (a western longitude stays `-20.306`); every other
+/// cell goes through [`csv_cell_out`].
+pub const CSV_NUMBER_COLUMNS: &[&str] = &[
+    "latitude",
+    "longitude",
+    "coordinate_uncertainty_m",
+    "revision",
+    "top_probability",
+];
+
+/// First characters that make a spreadsheet read a cell as a formula
+/// (OWASP, "CSV Injection": `=`, `+`, `-`, `@`, tab, carriage return).
+const FORMULA_START: &[char] = &['=', '+', '-', '@', '\t', '\r'];
+
+/// Whether `s`, after any single quotes it starts with, begins with a
+/// formula character.
+fn quoted_formula(s: &str) -> bool {
+    s.trim_start_matches('\'').starts_with(FORMULA_START)
+}
+
+/// A text cell for the CSV export, safe to open in a spreadsheet: a cell
+/// that starts with a formula character gets a single quote in front, as
+/// OWASP's CSV Injection guidance says, so the spreadsheet shows it as
+/// text. A cell that already starts with single quotes before such a
+/// character gets one more, so that [`csv_cell_in`], which takes exactly
+/// one away, gives back what was stored whatever it was.
+pub fn csv_cell_out(column: &str, cell: String) -> String {
+    if CSV_NUMBER_COLUMNS.contains(&column) && cell.parse::<f64>().is_ok() {
+        return cell;
+    }
+    if quoted_formula(&cell) {
+        format!("'{cell}")
+    } else {
+        cell
+    }
+}
+
+/// A cell as the import reads it: one leading single quote before a
+/// formula character (after any further quotes) is taken away, undoing
+/// [`csv_cell_out`]. Any other cell is left as it is.
+pub fn csv_cell_in(cell: &str) -> &str {
+    match cell.strip_prefix('\'') {
+        Some(rest) if quoted_formula(rest) => rest,
+        _ => cell,
+    }
+}
+
 /// A sample record as a client sends it (create or whole-record update).
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -104,25 +152,29 @@ pub struct SampleInput {
     /// On update: the revision the client started from.
     #[serde(default)]
     pub revision: Option<i64>,
-    /// Read-only fields a client may echo back from a GET; ignored if they
-    /// match the stored record, so a fetched record can be sent back whole.
+    /// Read-only fields that the service adds (`id`, `created_at`,
+    /// `updated_at`, `identification`, `base_version`, `deleted`), as sent.
+    /// A create refuses each of them; a whole-record update accepts them
+    /// only when they equal the stored record's (so a fetched record can be
+    /// sent back whole) and refuses, by name, one that differs. `null` is
+    /// the same as leaving the field out.
     #[serde(default, skip_serializing)]
-    pub id: Option<String>,
-    /// Read-only, ignored.
+    pub id: Option<serde_json::Value>,
+    /// Read-only: see [`SampleInput::id`].
     #[serde(default, skip_serializing)]
-    pub created_at: Option<String>,
-    /// Read-only, ignored.
+    pub created_at: Option<serde_json::Value>,
+    /// Read-only: see [`SampleInput::id`].
     #[serde(default, skip_serializing)]
-    pub updated_at: Option<String>,
-    /// Read-only, ignored.
+    pub updated_at: Option<serde_json::Value>,
+    /// Read-only: see [`SampleInput::id`].
     #[serde(default, skip_serializing)]
-    pub identification: Option<serde::de::IgnoredAny>,
-    /// Read-only, ignored.
+    pub identification: Option<serde_json::Value>,
+    /// Read-only: see [`SampleInput::id`].
     #[serde(default, skip_serializing)]
-    pub base_version: Option<String>,
-    /// Read-only, ignored.
+    pub base_version: Option<serde_json::Value>,
+    /// Read-only: see [`SampleInput::id`].
     #[serde(default, skip_serializing)]
-    pub deleted: Option<bool>,
+    pub deleted: Option<serde_json::Value>,
 }
 
 /// A validated sample, ready to store.
@@ -428,6 +480,101 @@ pub fn parse_coordinate(raw: &str, axis: Axis) -> Result<f64, String> {
     Ok(if negative { -value } else { value })
 }
 
+/// Characters that change the direction or order in which text is shown
+/// without being visible themselves (Unicode Standard Annex #9, "Unicode
+/// Bidirectional Algorithm", table 4 and sections 2.1 to 2.6): embeddings,
+/// overrides and their pop (U+202A to U+202E), isolates and their pop
+/// (U+2066 to U+2069), and the marks U+200E, U+200F and U+061C. A sample code
+/// or a note holding one can read differently on screen from what is stored.
+const BIDI_CONTROLS: &[(char, &str)] = &[
+    ('\u{061C}', "arabic letter mark"),
+    ('\u{200E}', "left-to-right mark"),
+    ('\u{200F}', "right-to-left mark"),
+    ('\u{202A}', "left-to-right embedding"),
+    ('\u{202B}', "right-to-left embedding"),
+    ('\u{202C}', "pop directional formatting"),
+    ('\u{202D}', "left-to-right override"),
+    ('\u{202E}', "right-to-left override"),
+    ('\u{2066}', "left-to-right isolate"),
+    ('\u{2067}', "right-to-left isolate"),
+    ('\u{2068}', "first strong isolate"),
+    ('\u{2069}', "pop directional isolate"),
+];
+
+/// Which line structure a text field may have.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Lines {
+    /// One line: codes, names, station, collector, lithology.
+    One,
+    /// Several lines (the notes): line feeds and tabs are allowed, and a
+    /// carriage return only as part of a CR LF line end (what browsers send
+    /// for a line break in a text area).
+    Many,
+}
+
+/// The first character of `s` that a text field may not hold, with its
+/// position (0-based, in characters): Unicode control characters (general
+/// category Cc: U+0000 to U+001F and U+007F to U+009F), except the line
+/// ends and tabs that [`Lines::Many`] allows, and the bidirectional controls.
+pub fn forbidden_char(s: &str, lines: Lines) -> Option<(usize, char)> {
+    let mut chars = s.chars().enumerate().peekable();
+    while let Some((i, c)) = chars.next() {
+        let allowed = match c {
+            '\n' | '\t' => lines == Lines::Many,
+            '\r' => lines == Lines::Many && matches!(chars.peek(), Some((_, '\n'))),
+            c if c.is_control() => false,
+            c => !BIDI_CONTROLS.iter().any(|(b, _)| *b == c),
+        };
+        if !allowed {
+            return Some((i, c));
+        }
+    }
+    None
+}
+
+/// A character named for a message: `U+202E (right-to-left override)`.
+pub fn describe_char(c: char) -> String {
+    let name = match c {
+        '\n' => "line feed",
+        '\r' => "carriage return",
+        '\t' => "tab",
+        '\0' => "null",
+        c => BIDI_CONTROLS
+            .iter()
+            .find(|(b, _)| *b == c)
+            .map_or("a control character", |(_, n)| n),
+    };
+    format!("U+{:04X} ({name})", u32::from(c))
+}
+
+/// Checks that `s` holds no character that [`forbidden_char`] refuses; the
+/// message names the character as U+XXXX and says what is allowed. Used for
+/// every text a person types into the log (API, forms, import, projects).
+pub fn check_text(field: &str, s: &str, lines: Lines) -> Result<(), FieldError> {
+    match forbidden_char(s, lines) {
+        None => Ok(()),
+        Some((at, c)) => {
+            let kind = if BIDI_CONTROLS.iter().any(|(b, _)| *b == c) {
+                "an invisible character that changes the order in which text is shown"
+            } else {
+                "a control character"
+            };
+            let allowed = match lines {
+                Lines::One => "one line of text without control characters",
+                Lines::Many => "text without control characters (line breaks and tabs are fine)",
+            };
+            Err(FieldError::new(
+                field,
+                format!(
+                    "character {} at position {} is {kind}; remove it. Allowed: {allowed}",
+                    describe_char(c),
+                    at + 1
+                ),
+            ))
+        }
+    }
+}
+
 fn text(field: &str, v: &Option<String>, max: usize) -> Result<Option<String>, FieldError> {
     let Some(s) = v else { return Ok(None) };
     let t = s.trim();
@@ -437,17 +584,118 @@ fn text(field: &str, v: &Option<String>, max: usize) -> Result<Option<String>, F
     if t.chars().count() > max {
         return Err(FieldError::new(field, format!("at most {max} characters")));
     }
-    if t.chars()
-        .any(|c| c.is_control() && c != '\n' && c != '\r' && c != '\t')
-    {
-        return Err(FieldError::new(field, "control characters are not allowed"));
-    }
+    let lines = if field == "notes" {
+        Lines::Many
+    } else {
+        Lines::One
+    };
+    check_text(field, t, lines)?;
     Ok(Some(t.to_string()))
 }
 
 /// Keeps the value of a field that passed, or notes its error.
 fn take<T>(r: Result<T, FieldError>, errors: &mut Vec<FieldError>) -> Option<T> {
     r.map_err(|e| errors.push(e)).ok()
+}
+
+/// Longest project name, characters.
+pub const MAX_PROJECT_NAME: usize = 120;
+
+/// A project name: trimmed, 1 to [`MAX_PROJECT_NAME`] characters of one
+/// line of text.
+pub fn valid_project_name(name: &str) -> Result<String, FieldError> {
+    let t = name.trim();
+    if t.is_empty() || t.chars().count() > MAX_PROJECT_NAME {
+        return Err(FieldError::new(
+            "name",
+            format!("give the project a name of 1 to {MAX_PROJECT_NAME} characters"),
+        ));
+    }
+    check_text("name", t, Lines::One)?;
+    Ok(t.to_string())
+}
+
+/// A project code, checked with a message that names a character that
+/// does not belong.
+pub fn check_project_code(field: &str, code: &str) -> Result<(), FieldError> {
+    check_text(field, code, Lines::One)?;
+    if valid_project_code(code) {
+        Ok(())
+    } else {
+        Err(FieldError::new(
+            field,
+            format!(
+                "\"{code}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _, starting with a letter or digit"
+            ),
+        ))
+    }
+}
+
+/// Longest code scheme, characters.
+pub const MAX_CODE_SCHEME: usize = 40;
+
+/// Checks a sample-code scheme: literal text with `{year}`, `{yy}` and
+/// exactly one `{seq:N}` (N from 1 to 12) or `{seq}` (one digit), at most
+/// [`MAX_CODE_SCHEME`] characters, one line without control characters. The
+/// message says what is allowed.
+pub fn valid_code_scheme(scheme: &str) -> Result<(), FieldError> {
+    let field = "code_scheme";
+    if scheme.chars().count() > MAX_CODE_SCHEME {
+        return Err(FieldError::new(
+            field,
+            format!("at most {MAX_CODE_SCHEME} characters"),
+        ));
+    }
+    check_text(field, scheme, Lines::One)?;
+    let mut seqs = 0;
+    let mut rest = scheme;
+    while let Some(open) = rest.find(['{', '}']) {
+        let after = &rest[open..];
+        let token_end = after.find('}').filter(|_| after.starts_with('{'));
+        let Some(end) = token_end else {
+            return Err(FieldError::new(
+                field,
+                "only {year}, {yy} and one {seq:N} are placeholders; remove the other braces",
+            ));
+        };
+        let token = &after[1..end];
+        match token {
+            "year" | "yy" => {}
+            "seq" => seqs += 1,
+            t if t.starts_with("seq:") => {
+                let ok = t[4..]
+                    .parse::<usize>()
+                    .ok()
+                    .is_some_and(|n| (1..=12).contains(&n))
+                    && t[4..].bytes().all(|b| b.is_ascii_digit());
+                if !ok {
+                    return Err(FieldError::new(
+                        field,
+                        "the sequence number needs a width from 1 to 12 digits: {seq:N}, e.g. {seq:4}",
+                    ));
+                }
+                seqs += 1;
+            }
+            _ => {
+                return Err(FieldError::new(
+                    field,
+                    "only {year}, {yy} and one {seq:N} are placeholders; remove the other braces",
+                ));
+            }
+        }
+        rest = &after[end + 1..];
+    }
+    match seqs {
+        0 => Err(FieldError::new(
+            field,
+            "the scheme needs a sequence number: {seq:N} with N from 1 to 12 digits, e.g. BV-{yy}-{seq:4}",
+        )),
+        1 => Ok(()),
+        _ => Err(FieldError::new(
+            field,
+            "give exactly one {seq:N}; only {year}, {yy} and one {seq:N} are placeholders",
+        )),
+    }
 }
 
 impl SampleInput {
@@ -494,6 +742,9 @@ impl SampleInput {
         let observations = take(self.observations_field(), &mut errors);
         let field_id = take(self.field_id_field(&known_entry), &mut errors);
         let notes = take(text("notes", &self.notes, MAX_NOTES), &mut errors);
+        if let Some(a) = &self.edited_by {
+            take(check_text("edited_by", a.trim(), Lines::One), &mut errors);
+        }
         match (
             project,
             sample_code,
@@ -541,14 +792,9 @@ impl SampleInput {
     fn project_field(&self) -> Result<String, FieldError> {
         let project = match self.project.as_deref().map(str::trim) {
             None | Some("") => "default".to_string(),
-            Some(p) if valid_project_code(p) => p.to_string(),
             Some(p) => {
-                return Err(FieldError::new(
-                    "project",
-                    format!(
-                        "\"{p}\" is not a project code: use 1 to 16 lower-case letters, digits, - or _"
-                    ),
-                ));
+                check_project_code("project", p)?;
+                p.to_string()
             }
         };
         Ok(project)
@@ -568,13 +814,10 @@ impl SampleInput {
                     format!("at most {MAX_SAMPLE_CODE} characters"),
                 ));
             }
-            Some(c) if c.chars().any(char::is_control) => {
-                return Err(FieldError::new(
-                    "sample_code",
-                    "control characters are not allowed",
-                ));
+            Some(c) => {
+                check_text("sample_code", c, Lines::One)?;
+                c.to_string()
             }
-            Some(c) => c.to_string(),
         };
         Ok(sample_code)
     }
@@ -973,5 +1216,125 @@ mod tests {
         assert!(!valid_project_code("BV"));
         assert!(!valid_project_code("-x"));
         assert!(!valid_project_code("a-very-long-project-code"));
+    }
+
+    #[test]
+    fn text_refuses_control_and_bidirectional_characters_with_their_code_point() {
+        for (text, lines, code) in [
+            ("a\u{202A}b", Lines::Many, "U+202A"),
+            ("a\u{202E}", Lines::Many, "U+202E"),
+            ("\u{2066}a", Lines::One, "U+2066"),
+            ("a\u{2069}", Lines::One, "U+2069"),
+            ("a\u{200E}", Lines::One, "U+200E"),
+            ("a\u{200F}", Lines::One, "U+200F"),
+            ("a\u{061C}", Lines::One, "U+061C"),
+            ("a\u{0000}", Lines::Many, "U+0000"),
+            ("a\u{001B}[31m", Lines::Many, "U+001B"),
+            ("a\u{007F}", Lines::Many, "U+007F"),
+            ("a\u{009B}", Lines::Many, "U+009B"),
+            ("a\nb", Lines::One, "U+000A"),
+            ("a\tb", Lines::One, "U+0009"),
+            ("a\rb", Lines::Many, "U+000D"),
+            ("a\r", Lines::Many, "U+000D"),
+        ] {
+            let e = check_text("notes", text, lines).expect_err(text);
+            assert_eq!(e.field, "notes");
+            assert!(e.message.contains(code), "{text:?}: {}", e.message);
+        }
+        for ok in ["plain", "Ünïcødé – ok", "שלום", "a\u{200D}b"] {
+            assert!(check_text("notes", ok, Lines::One).is_ok(), "{ok:?}");
+        }
+        for ok in ["two\nlines", "tab\there", "crlf\r\nline"] {
+            assert!(check_text("notes", ok, Lines::Many).is_ok(), "{ok:?}");
+        }
+    }
+
+    #[test]
+    fn project_names_and_codes_use_the_same_character_rule() {
+        assert_eq!(
+            valid_project_name("  Ridge survey  ").as_deref().ok(),
+            Some("Ridge survey")
+        );
+        assert_eq!(valid_project_name("").expect_err("empty").field, "name");
+        let e = valid_project_name("Ridge\u{202E}").expect_err("bidi");
+        assert!(e.message.contains("U+202E"), "{}", e.message);
+        let e = check_project_code("project", "bv\u{202E}").expect_err("bidi");
+        assert!(e.message.contains("U+202E"), "{}", e.message);
+        assert!(check_project_code("project", "bv-26").is_ok());
+    }
+
+    #[test]
+    fn code_schemes_need_one_sequence_and_known_placeholders() {
+        for ok in [
+            "{seq:4}",
+            "BV-{yy}-{seq:4}",
+            "{year}/{seq:3}a",
+            "S{seq}",
+            "X-{seq:12}",
+        ] {
+            assert!(valid_code_scheme(ok).is_ok(), "{ok}");
+        }
+        for bad in [
+            "BV-",
+            "{seq:0}",
+            "{seq:13}",
+            "{seq:x}",
+            "{seq:4}-{seq:2}",
+            "{month}-{seq:4}",
+            "{seq:4",
+            "a}{seq:4}",
+            "BV\u{202E}{seq:4}",
+            "{seq:4}{seq:4}{seq:4}{seq:4}{seq:4}{seq:4}x",
+        ] {
+            let e = valid_code_scheme(bad).expect_err(bad);
+            assert_eq!(e.field, "code_scheme");
+        }
+    }
+    #[test]
+    fn csv_cells_that_a_spreadsheet_would_run_are_quoted_and_come_back_as_stored() {
+        // (stored, exported) for a text column.
+        let table = [
+            ("=1+1", "'=1+1"),
+            (
+                "=HYPERLINK(\"http://example.invalid\",\"x\")",
+                "'=HYPERLINK(\"http://example.invalid\",\"x\")",
+            ),
+            ("'=x", "''=x"),
+            ("''@y", "'''@y"),
+            ("'plain", "'plain"),
+            ("-", "'-"),
+            ("-5 m", "'-5 m"),
+            ("@home", "'@home"),
+            ("\tx", "'\tx"),
+            ("\rx", "'\rx"),
+            ("+", "'+"),
+            ("'", "'"),
+            ("plain", "plain"),
+            ("", ""),
+        ];
+        for (stored, exported) in table {
+            assert_eq!(
+                csv_cell_out("notes", stored.to_string()),
+                exported,
+                "{stored:?}"
+            );
+            assert_eq!(csv_cell_in(exported), stored, "{exported:?}");
+        }
+        // Numbers in number columns stay numbers; text in them does not.
+        assert_eq!(csv_cell_out("longitude", "-20.306".into()), "-20.306");
+        assert_eq!(csv_cell_out("latitude", "-5 m".into()), "'-5 m");
+        assert_eq!(csv_cell_out("notes", "-20.306".into()), "'-20.306");
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(2000))]
+        #[test]
+        fn every_text_cell_round_trips_and_never_starts_a_formula(
+            s in "['=+@\\t\\ra-z -]{0,6}"
+        ) {
+            let out = csv_cell_out("notes", s.clone());
+            proptest::prop_assert!(!out.starts_with(FORMULA_START), "{:?}", out);
+            proptest::prop_assert_eq!(csv_cell_in(&out), s.as_str());
+        }
     }
 }

@@ -138,6 +138,28 @@ fn classify(
     let msg = err.into_inner().to_string();
     // serde_json appends " at line L column C"; the path says where instead.
     let msg = msg.split(" at line ").next().unwrap_or(&msg).to_string();
+    if matches!(
+        msg.as_str(),
+        "lone leading surrogate in hex escape"
+            | "unexpected end of hex escape"
+            | "invalid unicode code point"
+    ) {
+        // A \uD800-\uDFFF escape without its partner: well-formed JSON
+        // (RFC 8259, section 8.2), but no character of Unicode.
+        let what = if path.is_empty() {
+            "a field name".to_string()
+        } else {
+            "this text".to_string()
+        };
+        return InputError::Invalid(FieldError::new(
+            path.clone(),
+            format!(
+                "{what} holds half of a UTF-16 surrogate pair (a \\u escape from D800 to DFFF without its partner), which is no character; \
+                 write the character itself, or both halves of the pair. Expected {}",
+                describe(&shape_of(&path))
+            ),
+        ));
+    }
     if msg.starts_with("number out of range") {
         // Well-formed JSON, but not a finite f64.
         return InputError::Invalid(FieldError::new(

@@ -1271,25 +1271,108 @@ pub struct Project {
     pub code_scheme: String,
     /// Created.
     pub created_at: String,
+    /// When the name or scheme was last edited (null until then).
+    pub updated_at: Option<String>,
 }
+
+/// The columns of [`Project`].
+const PROJECT_COLUMNS: &str = "code, name, code_scheme, created_at, updated_at";
 
 /// Every project, by code.
 #[tracing::instrument(skip(pool))]
 pub async fn projects(pool: &SqlitePool) -> Result<Vec<Project>, StoreError> {
-    sqlx::query_as("SELECT code, name, code_scheme, created_at FROM projects ORDER BY code")
-        .fetch_all(pool)
-        .await
-        .context("listing projects")
+    sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT {PROJECT_COLUMNS} FROM projects ORDER BY code"
+    )))
+    .fetch_all(pool)
+    .await
+    .context("listing projects")
 }
 
 /// One project.
 #[tracing::instrument(skip(pool))]
 pub async fn project(pool: &SqlitePool, code: &str) -> Result<Option<Project>, StoreError> {
-    sqlx::query_as("SELECT code, name, code_scheme, created_at FROM projects WHERE code = ?1")
-        .bind(code)
-        .fetch_optional(pool)
-        .await
-        .context("reading a project")
+    sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT {PROJECT_COLUMNS} FROM projects WHERE code = ?1"
+    )))
+    .bind(code)
+    .fetch_optional(pool)
+    .await
+    .context("reading a project")
+}
+
+/// A project's earlier name and scheme, kept by [`update_project`].
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, sqlx::FromRow)]
+pub struct ProjectChange {
+    /// The name before the edit.
+    pub name: String,
+    /// The scheme before the edit.
+    pub code_scheme: String,
+    /// When the edit was made.
+    pub changed_at: String,
+}
+
+/// Renames a project and sets its code scheme (the values already
+/// checked). The earlier name and scheme are kept in `project_changes`
+/// and `updated_at` is set; an edit that changes nothing writes nothing.
+/// `None` when there is no such project. Sample codes are not touched.
+#[tracing::instrument(skip(pool))]
+pub async fn update_project(
+    pool: &SqlitePool,
+    code: &str,
+    name: &str,
+    scheme: &str,
+) -> Result<Option<Project>, StoreError> {
+    let mut tx = pool.begin().await.context("starting a project edit")?;
+    let current: Option<Project> = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT {PROJECT_COLUMNS} FROM projects WHERE code = ?1"
+    )))
+    .bind(code)
+    .fetch_optional(&mut *tx)
+    .await
+    .context("reading a project")?;
+    let Some(current) = current else {
+        return Ok(None);
+    };
+    if current.name == name && current.code_scheme == scheme {
+        return Ok(Some(current));
+    }
+    sqlx::query(sqlx::AssertSqlSafe(format!(
+        "INSERT INTO project_changes (code, name, code_scheme, changed_at) VALUES (?1, ?2, ?3, {NOW})"
+    )))
+    .bind(code)
+    .bind(&current.name)
+    .bind(&current.code_scheme)
+    .execute(&mut *tx)
+    .await
+    .context("keeping a project's earlier state")?;
+    let updated: Project = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "UPDATE projects SET name = ?2, code_scheme = ?3, updated_at = {NOW} WHERE code = ?1
+         RETURNING {PROJECT_COLUMNS}"
+    )))
+    .bind(code)
+    .bind(name)
+    .bind(scheme)
+    .fetch_one(&mut *tx)
+    .await
+    .context("editing a project")?;
+    tx.commit().await.context("committing a project edit")?;
+    Ok(Some(updated))
+}
+
+/// A project's earlier names and schemes, oldest first.
+#[tracing::instrument(skip(pool))]
+pub async fn project_changes(
+    pool: &SqlitePool,
+    code: &str,
+) -> Result<Vec<ProjectChange>, StoreError> {
+    sqlx::query_as(
+        "SELECT name, code_scheme, changed_at FROM project_changes WHERE code = ?1 ORDER BY id",
+    )
+    .bind(code)
+    .fetch_all(pool)
+    .await
+    .context("reading a project's earlier states")
 }
 
 /// Creates a project; false when the code is taken.

@@ -43,7 +43,7 @@ fn cookie_token(headers: &HeaderMap) -> Option<String> {
 /// Whether the browser's own statement of origin allows this request.
 /// `Sec-Fetch-Site`, where the browser sends it, is the authority; older
 /// browsers are judged by `Origin` against `Host`.
-fn same_origin(headers: &HeaderMap) -> bool {
+pub(crate) fn same_origin(headers: &HeaderMap) -> bool {
     if let Some(site) = headers.get("sec-fetch-site").and_then(|v| v.to_str().ok()) {
         return matches!(site, "same-origin" | "none");
     }

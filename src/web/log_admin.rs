@@ -2,7 +2,11 @@
 //!
 //! - `GET /projects`, `POST /projects`: the projects, each with a short code,
 //!   a name and a sample-code scheme; a new one is added with a form.
-//! - `GET /api/v1/projects`: the same list as JSON.
+//! - `GET /projects/{code}/edit`, `POST /projects/{code}/edit`: rename a
+//!   project or change its code scheme (sample codes already written never
+//!   change; the codes suggested from then on follow the new scheme).
+//! - `GET /api/v1/projects`: the same list as JSON; `GET` and
+//!   `PUT /api/v1/projects/{code}` read and edit one project.
 //! - `GET /samples/import`, `POST /samples/import`: upload a CSV in the
 //!   export's columns; every row is checked and every bad one reported with
 //!   its line; nothing is written unless every row is good (or when only a
@@ -13,17 +17,22 @@ use askama_web::WebTemplate;
 use axum::Json;
 use axum::Router;
 use axum::body::Bytes;
-use axum::extract::{DefaultBodyLimit, Extension, Multipart, State};
-use axum::http::StatusCode;
+use axum::extract::rejection::BytesRejection;
+use axum::extract::{DefaultBodyLimit, Extension, Multipart, Path, State};
+use axum::http::{HeaderMap, StatusCode};
 use axum::response::{IntoResponse, Redirect, Response};
 use axum::routing::get;
+use serde::Deserialize;
 
 use super::AppState;
+use super::api::{BODY_LIMIT, body_bytes, require_json};
 use super::csrf::{self, CsrfToken};
 use super::error::{ApiError, PageError};
 use super::forms::{FieldMessages, FormData};
-use crate::samples::valid_project_code;
-use crate::store::samples::{self as db, Project};
+use crate::engine::FieldError;
+use crate::engine::input::object_from_json;
+use crate::samples::{check_project_code, valid_code_scheme, valid_project_name};
+use crate::store::samples::{self as db, Project, ProjectChange};
 
 /// Largest CSV accepted by the upload page (about 50 000 exported rows).
 pub const UPLOAD_LIMIT: usize = 64 * 1024 * 1024;
@@ -31,8 +40,25 @@ pub const UPLOAD_LIMIT: usize = 64 * 1024 * 1024;
 /// Routes of the projects and the upload.
 pub fn router() -> Router<AppState> {
     Router::new()
-        .route("/projects", get(projects).post(create_project))
+        .route(
+            "/projects",
+            get(projects)
+                .post(create_project)
+                .layer(DefaultBodyLimit::max(BODY_LIMIT)),
+        )
+        .route(
+            "/projects/{code}/edit",
+            get(edit_form)
+                .post(edit_submit)
+                .layer(DefaultBodyLimit::max(BODY_LIMIT)),
+        )
         .route("/api/v1/projects", get(projects_json))
+        .route(
+            "/api/v1/projects/{code}",
+            get(project_json)
+                .put(project_put)
+                .layer(DefaultBodyLimit::max(BODY_LIMIT)),
+        )
         .route(
             "/samples/import",
             get(import_form)
@@ -106,24 +132,24 @@ async fn projects_json(State(st): State<AppState>) -> Result<Response, ApiError>
 }
 
 /// Checks a code scheme: literal text, `{year}`, `{yy}` and exactly one
-/// `{seq:N}` (N from 1 to 12), at most 40 characters.
+/// `{seq:N}` (N from 1 to 12), at most 40 characters
+/// ([`crate::samples::valid_code_scheme`]).
 pub fn check_scheme(scheme: &str) -> Result<(), String> {
-    if scheme.chars().count() > 40 {
-        return Err("at most 40 characters".into());
+    valid_code_scheme(scheme).map_err(|e| e.message)
+}
+
+/// Checks a project's name and scheme together: the trimmed name, or a
+/// message per field (`name`, `code_scheme`).
+pub fn check_project(name: &str, scheme: &str) -> Result<String, Vec<FieldError>> {
+    let mut errors = Vec::new();
+    let name = valid_project_name(name).map_err(|e| errors.push(e)).ok();
+    if let Err(e) = valid_code_scheme(scheme) {
+        errors.push(e);
     }
-    if scheme.chars().any(char::is_control) {
-        return Err("control characters are not allowed".into());
+    match name {
+        Some(n) if errors.is_empty() => Ok(n),
+        _ => Err(errors),
     }
-    let s = super::samples_pages::parse_scheme(scheme, 2026);
-    if s.width.is_none() {
-        return Err("the scheme needs a sequence number: {seq:N} with N from 1 to 12 digits, e.g. BV-{yy}-{seq:4}".into());
-    }
-    if s.prefix.contains('{') || s.suffix.contains('{') {
-        return Err(
-            "only {year}, {yy} and one {seq:N} are placeholders; remove the other braces".into(),
-        );
-    }
-    Ok(())
 }
 
 /// `POST /projects`: add a project.
@@ -138,23 +164,15 @@ async fn create_project(
     let name = form.get("name").unwrap_or("").to_string();
     let scheme = form.get("code_scheme").unwrap_or("").to_string();
     let mut errors = FieldMessages::new();
-    if !valid_project_code(&code) {
-        errors.insert(
-            "code".into(),
-            "use 1 to 16 lower-case letters, digits, - or _, starting with a letter or digit"
-                .into(),
-        );
+    if let Err(e) = check_project_code("code", &code) {
+        errors.insert(e.field, e.message);
     }
-    if name.trim().is_empty() || name.chars().count() > 120 {
-        errors.insert(
-            "name".into(),
-            "give the project a name of at most 120 characters".into(),
-        );
-    }
-    if let Err(m) = check_scheme(&scheme) {
-        errors.insert("code_scheme".into(), m);
-    }
-    if errors.is_empty() && !db::create_project(&st.db, &code, name.trim(), &scheme).await? {
+    let checked = check_project(&name, &scheme)
+        .map_err(|es| errors.extend(es.into_iter().map(|e| (e.field, e.message))))
+        .ok();
+    if let Some(n) = checked.filter(|_| errors.is_empty())
+        && !db::create_project(&st.db, &code, &n, &scheme).await?
+    {
         errors.insert(
             "code".into(),
             format!("the code {code} is already used by another project"),
@@ -165,6 +183,215 @@ async fn create_project(
     }
     let p = page(&st, &csrf, &code, &name, &scheme, errors).await?;
     Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response())
+}
+
+/// The edit page of one project.
+#[derive(Template, WebTemplate)]
+#[template(path = "project_edit.html")]
+pub struct EditPage {
+    /// Page title.
+    pub title: String,
+    /// Base version for the footer.
+    pub base_version: String,
+    /// Anti-forgery token.
+    pub csrf: String,
+    /// The project as stored.
+    pub project: Project,
+    /// Its earlier names and schemes, oldest first.
+    pub changes: Vec<ProjectChange>,
+    /// Name as typed.
+    pub name: String,
+    /// Scheme as typed.
+    pub scheme: String,
+    /// Refusals by field.
+    pub errors: FieldMessages,
+}
+
+impl EditPage {
+    /// The refusal for a field, if any.
+    pub fn err(&self, field: &str) -> Option<&str> {
+        self.errors.get(field).map(String::as_str)
+    }
+}
+
+async fn edit_page(
+    st: &AppState,
+    csrf: &CsrfToken,
+    code: &str,
+    typed: Option<(&str, &str)>,
+    errors: FieldMessages,
+) -> PageResult<EditPage> {
+    let Some(project) = db::project(&st.db, code).await? else {
+        return Err(PageError::NotFound(format!(
+            "There is no project {code}. The projects page lists them all."
+        )));
+    };
+    let (name, scheme) = typed.map_or_else(
+        || (project.name.clone(), project.code_scheme.clone()),
+        |(n, s)| (n.to_string(), s.to_string()),
+    );
+    Ok(EditPage {
+        title: format!("Project {}", project.code),
+        base_version: st.engine.base().version.clone(),
+        csrf: csrf.0.clone(),
+        changes: db::project_changes(&st.db, code).await?,
+        project,
+        name,
+        scheme,
+        errors,
+    })
+}
+
+/// `GET /projects/{code}/edit`.
+async fn edit_form(
+    State(st): State<AppState>,
+    Extension(csrf): Extension<CsrfToken>,
+    Path(code): Path<String>,
+) -> PageResult<EditPage> {
+    edit_page(&st, &csrf, &code, None, FieldMessages::new()).await
+}
+
+/// `POST /projects/{code}/edit` (`_csrf`, `name`, `code_scheme`): 303 to
+/// the projects page, or the form again (422) with the values kept.
+async fn edit_submit(
+    State(st): State<AppState>,
+    Extension(csrf): Extension<CsrfToken>,
+    Path(code): Path<String>,
+    body: Bytes,
+) -> PageResult<Response> {
+    let form = FormData::parse(&body);
+    csrf::verify(&csrf, form.get(csrf::FIELD))?;
+    let name = form.get("name").unwrap_or("").to_string();
+    let scheme = form.get("code_scheme").unwrap_or("").trim().to_string();
+    let errors = match check_project(&name, &scheme) {
+        Ok(n) => match db::update_project(&st.db, &code, &n, &scheme).await? {
+            Some(_) => return Ok(Redirect::to("/projects").into_response()),
+            None => {
+                return Err(PageError::NotFound(format!(
+                    "There is no project {code}. The projects page lists them all."
+                )));
+            }
+        },
+        Err(es) => es.into_iter().map(|e| (e.field, e.message)).collect(),
+    };
+    let p = edit_page(&st, &csrf, &code, Some((&name, &scheme)), errors).await?;
+    Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response())
+}
+
+fn no_project(code: &str) -> ApiError {
+    ApiError::NotFound(FieldError::new(
+        "code",
+        format!("there is no project {code}; GET /api/v1/projects lists them"),
+    ))
+}
+
+/// `GET /api/v1/projects/{code}`.
+async fn project_json(
+    State(st): State<AppState>,
+    Path(code): Path<String>,
+) -> Result<Json<Project>, ApiError> {
+    db::project(&st.db, &code)
+        .await?
+        .map(Json)
+        .ok_or_else(|| no_project(&code))
+}
+
+/// The body of `PUT /api/v1/projects/{code}`: the name and the scheme; the
+/// other fields a GET returns may be sent back unchanged.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ProjectBody {
+    #[serde(default)]
+    name: Option<String>,
+    #[serde(default)]
+    code_scheme: Option<String>,
+    #[serde(default)]
+    code: Option<serde_json::Value>,
+    #[serde(default)]
+    created_at: Option<serde_json::Value>,
+    #[serde(default)]
+    updated_at: Option<serde_json::Value>,
+}
+
+fn describe_project_field(shape: &str) -> String {
+    match shape {
+        "" => "an object with name and code_scheme (code, created_at and updated_at may be sent back as GET returned them)".to_string(),
+        "name" => format!("the project's name, 1 to {} characters", crate::samples::MAX_PROJECT_NAME),
+        "code_scheme" => "a sample-code scheme: literal text with {year}, {yy} and one {seq:N}, e.g. BV-{yy}-{seq:4}".to_string(),
+        _ => "a field of a project (code, name, code_scheme, created_at, updated_at)".to_string(),
+    }
+}
+
+/// `PUT /api/v1/projects/{code}`: JSON only, from this origin when the
+/// client says where it comes from; 200 with the project as stored. Sample
+/// codes already written never change.
+async fn project_put(
+    State(st): State<AppState>,
+    Path(code): Path<String>,
+    headers: HeaderMap,
+    body: std::result::Result<Bytes, BytesRejection>,
+) -> Response {
+    if !csrf::same_origin(&headers) {
+        return (
+            StatusCode::FORBIDDEN,
+            Json(serde_json::json!({"error": {
+                "field": "",
+                "message": "this request came from another site, so it was refused and nothing was changed"
+            }})),
+        )
+            .into_response();
+    }
+    match put_project(&st, &code, &headers, body).await {
+        Ok(p) => Json(p).into_response(),
+        Err(e) => e.into_response(),
+    }
+}
+
+async fn put_project(
+    st: &AppState,
+    code: &str,
+    headers: &HeaderMap,
+    body: std::result::Result<Bytes, BytesRejection>,
+) -> Result<Project, ApiError> {
+    require_json(headers)?;
+    let bytes = body_bytes(body)?;
+    let b: ProjectBody = object_from_json(&bytes, describe_project_field)?;
+    let current = db::project(&st.db, code)
+        .await?
+        .ok_or_else(|| no_project(code))?;
+    let stored = serde_json::to_value(&current).map_err(|e| ApiError::Internal(e.to_string()))?;
+    for (field, given) in [
+        ("code", &b.code),
+        ("created_at", &b.created_at),
+        ("updated_at", &b.updated_at),
+    ] {
+        if let Some(v) = given
+            && Some(v) != stored.get(field)
+        {
+            return Err(ApiError::Invalid(FieldError::new(
+                field,
+                format!(
+                    "\"{field}\" is set by the service and cannot be changed; send it back as GET returned it, or leave it out"
+                ),
+            )));
+        }
+    }
+    let (Some(name), Some(scheme)) = (&b.name, &b.code_scheme) else {
+        let missing = if b.name.is_none() {
+            "name"
+        } else {
+            "code_scheme"
+        };
+        return Err(ApiError::Invalid(FieldError::new(
+            missing,
+            format!("give {missing}: {}", describe_project_field(missing)),
+        )));
+    };
+    let scheme = scheme.trim();
+    let name = check_project(name, scheme).map_err(|mut es| ApiError::Invalid(es.remove(0)))?;
+    db::update_project(&st.db, code, &name, scheme)
+        .await?
+        .ok_or_else(|| no_project(code))
 }
 
 /// The upload page, before and after an upload.
@@ -181,6 +408,10 @@ pub struct ImportPage {
     pub projects: Vec<String>,
     /// The project chosen.
     pub project: String,
+    /// The name for a project the import creates, as typed.
+    pub name: String,
+    /// The code scheme for a project the import creates, as typed.
+    pub scheme: String,
     /// Whether only a check was asked for.
     pub dry_run: bool,
     /// A refusal of the upload as a whole.
@@ -203,6 +434,7 @@ async fn import_page(
     st: &AppState,
     csrf: &CsrfToken,
     project: &str,
+    new: &crate::import::NewProject,
     dry_run: bool,
 ) -> PageResult<ImportPage> {
     Ok(ImportPage {
@@ -215,6 +447,8 @@ async fn import_page(
             .map(|p| p.code)
             .collect(),
         project: project.to_string(),
+        name: new.name.clone().unwrap_or_default(),
+        scheme: new.code_scheme.clone().unwrap_or_default(),
         dry_run,
         problem: None,
         outcome: None,
@@ -226,10 +460,12 @@ async fn import_form(
     State(st): State<AppState>,
     Extension(csrf): Extension<CsrfToken>,
 ) -> PageResult<ImportPage> {
-    import_page(&st, &csrf, "default", true).await
+    // No project is preset: the file goes where the person says.
+    import_page(&st, &csrf, "", &Default::default(), true).await
 }
 
-/// `POST /samples/import` (multipart: `_csrf`, `project`, `dry_run`, `file`).
+/// `POST /samples/import` (multipart: `_csrf`, `project`, `name`,
+/// `code_scheme`, `dry_run`, `file`).
 async fn import_upload(
     State(st): State<AppState>,
     Extension(csrf): Extension<CsrfToken>,
@@ -237,6 +473,7 @@ async fn import_upload(
 ) -> PageResult<Response> {
     let (mut token, mut project, mut dry_run, mut file) =
         (None, String::new(), false, None::<Vec<u8>>);
+    let mut new = crate::import::NewProject::default();
     let mut problem = None;
     loop {
         match multipart.next_field().await {
@@ -246,6 +483,15 @@ async fn import_upload(
                     Ok(bytes) => match name.as_str() {
                         "_csrf" => token = Some(String::from_utf8_lossy(&bytes).trim().to_string()),
                         "project" => project = String::from_utf8_lossy(&bytes).trim().to_string(),
+                        "name" => {
+                            new.name = Some(String::from_utf8_lossy(&bytes).trim().to_string())
+                                .filter(|v| !v.is_empty());
+                        }
+                        "code_scheme" => {
+                            new.code_scheme =
+                                Some(String::from_utf8_lossy(&bytes).trim().to_string())
+                                    .filter(|v| !v.is_empty());
+                        }
                         "dry_run" => dry_run = !bytes.is_empty(),
                         "file" => file = Some(bytes.to_vec()),
                         _ => {}
@@ -269,20 +515,17 @@ async fn import_upload(
         }
     }
     csrf::verify(&csrf, token.as_deref())?;
-    let mut p = import_page(
-        &st,
-        &csrf,
-        if project.is_empty() {
-            "default"
-        } else {
-            &project
-        },
-        dry_run,
-    )
-    .await?;
+    let mut p = import_page(&st, &csrf, &project, &new, dry_run).await?;
     let data = match (problem, file) {
         (Some(m), _) => {
             p.problem = Some(m);
+            return Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response());
+        }
+        (None, _) if project.is_empty() => {
+            p.problem = Some(
+                "give the code of the project to import into (an existing one, or a new one to create)"
+                    .into(),
+            );
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response());
         }
         (None, None) => {
@@ -299,6 +542,7 @@ async fn import_upload(
         &st.db,
         &data,
         &p.project,
+        &new,
         dry_run,
         Some("CSV upload"),
         &|| {},
@@ -323,6 +567,10 @@ async fn import_upload(
             p.problem = Some(e.to_string());
             Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response())
         }
+        Err(crate::import::RunError::Project(e)) => {
+            p.problem = Some(format!("{}: {}", e.field, e.message));
+            Ok((StatusCode::UNPROCESSABLE_ENTITY, p).into_response())
+        }
         Err(crate::import::RunError::Write(
             e @ crate::store::samples::WriteError::ImportConflict,
         )) => {
@@ -331,5 +579,32 @@ async fn import_upload(
         }
         Err(crate::import::RunError::Write(e)) => Err(PageError::Internal(e.to_string())),
         Err(crate::import::RunError::Store(e)) => Err(e.into()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_scheme_check_accepts_exactly_what_the_code_suggestion_understands() {
+        for scheme in [
+            "{seq:4}",
+            "BV-{yy}-{seq:4}",
+            "{year}/{seq:3}a",
+            "S{seq}",
+            "BV-",
+            "{seq:0}",
+            "{seq:13}",
+            "{seq:x}",
+            "{seq:4}-{seq:2}",
+            "{month}-{seq:4}",
+            "{seq:4",
+        ] {
+            let s = super::super::samples_pages::parse_scheme(scheme, 2026);
+            let understood =
+                s.width.is_some() && !s.prefix.contains('{') && !s.suffix.contains('{');
+            assert_eq!(check_scheme(scheme).is_ok(), understood, "{scheme}");
+        }
     }
 }

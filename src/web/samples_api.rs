@@ -55,7 +55,8 @@ pub fn describe_sample_field(shape: &str) -> String {
     }
     match shape {
         "" => "an object with sample_code (required) and any of project, collected_on, collector, station, latitude, \
-               longitude, coordinate_uncertainty_m, setting, lithology, observations, field_id, notes (and revision on update)"
+               longitude, coordinate_uncertainty_m, setting, lithology, observations, field_id, notes, edited_by (and revision on update, \
+               where the fields a GET returns may also be sent back unchanged)"
             .to_string(),
         "project" => "a project code: 1 to 16 lower-case letters, digits, - or _".to_string(),
         "sample_code" | "collector" | "station" | "lithology" | "notes" | "field_id" | "edited_by" => "text".to_string(),
@@ -78,6 +79,72 @@ fn parse_input(bytes: &[u8]) -> Result<(SampleInput, Option<String>)> {
         .map(|s| s.trim().chars().take(200).collect::<String>())
         .filter(|s| !s.is_empty());
     Ok((input, author))
+}
+
+/// The fields a GET returns that the service sets itself, as the input
+/// holds them.
+fn read_only(input: &SampleInput) -> [(&'static str, Option<&serde_json::Value>); 6] {
+    [
+        ("id", input.id.as_ref()),
+        ("created_at", input.created_at.as_ref()),
+        ("updated_at", input.updated_at.as_ref()),
+        ("identification", input.identification.as_ref()),
+        ("base_version", input.base_version.as_ref()),
+        ("deleted", input.deleted.as_ref()),
+    ]
+}
+
+/// A create takes only the fields it stores: the ones the service sets
+/// (its id among them) are refused by name.
+fn refuse_service_fields(input: &SampleInput) -> Result<()> {
+    if let Some((name, _)) = read_only(input).into_iter().find(|(_, v)| v.is_some()) {
+        let why = match name {
+            "id" => {
+                "the service assigns every new record its id (a UUID that never changes) and returns it in the response"
+            }
+            "identification" | "base_version" => {
+                "the service computes the identification from observations when the record is saved"
+            }
+            "deleted" => "a new record is never deleted; DELETE /api/v1/samples/{id} deletes one",
+            _ => "the service sets the record's times itself",
+        };
+        return Err(ApiError::Invalid(FieldError::new(
+            name,
+            format!("\"{name}\" cannot be given when creating a record: {why}; leave it out"),
+        )));
+    }
+    if input.revision.is_some() {
+        return Err(ApiError::Invalid(FieldError::new(
+            "revision",
+            "\"revision\" cannot be given when creating a record: a new record is revision 1; leave it out",
+        )));
+    }
+    Ok(())
+}
+
+/// A whole-record update may carry the fields a GET returned: each is
+/// accepted when it equals the stored record's and refused by name when it
+/// differs (the service sets them; a changed one would be silently lost).
+fn same_service_fields(input: &SampleInput, stored: &SampleRecord) -> Result<()> {
+    let stored = serde_json::to_value(stored).map_err(|e| ApiError::Internal(e.to_string()))?;
+    for (name, given) in read_only(input) {
+        let Some(given) = given else { continue };
+        let current = stored.get(name).unwrap_or(&serde_json::Value::Null);
+        if given != current {
+            let shown = match current {
+                serde_json::Value::String(s) => format!("\"{s}\""),
+                serde_json::Value::Object(_) => "the stored one".to_string(),
+                v => v.to_string(),
+            };
+            return Err(ApiError::Invalid(FieldError::new(
+                name,
+                format!(
+                    "\"{name}\" is set by the service and cannot be changed; it differs from the stored record's ({shown}). Send it back as GET returned it, or leave it out"
+                ),
+            )));
+        }
+    }
+    Ok(())
 }
 
 fn not_found(id: &str) -> ApiError {
@@ -158,7 +225,8 @@ async fn create(
     let parsed = require_json(&headers)
         .and_then(|()| body_bytes(body))
         .and_then(|b| parse_input(&b));
-    let (input, author) = match parsed {
+    let (input, author) = match parsed.and_then(|(i, a)| refuse_service_fields(&i).map(|()| (i, a)))
+    {
         Ok(x) => x,
         Err(e) => return e.into_response(),
     };
@@ -214,7 +282,7 @@ async fn replace(
         Err(e) => return e.into_response(),
     };
     if let Some(given) = &input.id
-        && given != &id
+        && given.as_str() != Some(id.as_str())
     {
         return ApiError::Invalid(FieldError::new(
             "id",
@@ -229,6 +297,19 @@ async fn replace(
         ))
         .into_response();
     };
+    // The fields the service sets are compared with the record the client
+    // says it started from; when that is not the current revision the
+    // store answers 409 with the current record instead.
+    match db::get(&st.db, &id).await {
+        Ok(None) => return not_found(&id).into_response(),
+        Ok(Some(current)) if !current.deleted && current.revision == expected => {
+            if let Err(e) = same_service_fields(&input, &current) {
+                return e.into_response();
+            }
+        }
+        Ok(Some(_)) => {}
+        Err(e) => return ApiError::from(e).into_response(),
+    }
     let base = st.engine.base();
     let v = match input.validate(|e| base.entry(e).is_some(), Some(st.config.today())) {
         Ok(v) => v,
@@ -377,9 +458,30 @@ pub fn parse_query(raw: Option<&str>) -> std::result::Result<ListQuery, FieldErr
     Ok(q)
 }
 
+/// The first parameter given more than once in a query string.
+pub fn repeated_parameter(raw: Option<&str>) -> Option<String> {
+    let mut seen = std::collections::HashSet::new();
+    form_urlencoded::parse(raw.unwrap_or("").as_bytes())
+        .map(|(k, _)| k.into_owned())
+        .find(|k| !seen.insert(k.clone()))
+}
+
+/// The list and export parameters of the API: a parameter given twice is
+/// a 400 naming it (one value each; nothing is picked silently), a bad
+/// value a 422.
+pub fn parse_api_query(raw: Option<&str>) -> Result<ListQuery> {
+    if let Some(k) = repeated_parameter(raw) {
+        return Err(ApiError::BadRequest(FieldError::new(
+            k.clone(),
+            format!("the parameter \"{k}\" is given more than once; give each parameter once"),
+        )));
+    }
+    parse_query(raw).map_err(ApiError::Invalid)
+}
+
 /// `GET /api/v1/samples`: newest first, with `next_cursor`.
 async fn list(State(st): State<AppState>, RawQuery(raw): RawQuery) -> Result<impl IntoResponse> {
-    let q = parse_query(raw.as_deref()).map_err(ApiError::Invalid)?;
+    let q = parse_api_query(raw.as_deref())?;
     // The stored identifications go out as they were written.
     let page = db::list_as::<db::Raw>(&st.db, &q.filter, q.limit, q.cursor).await?;
     Ok(Json(page))
@@ -392,8 +494,18 @@ fn opt_num(x: Option<f64>) -> String {
     x.map(|v| v.to_string()).unwrap_or_default()
 }
 
-/// One CSV row of a record.
+/// One CSV row of a record, every text cell safe to open in a
+/// spreadsheet ([`crate::samples::csv_cell_out`]).
 pub fn csv_row(r: &SampleRecord) -> Vec<String> {
+    csv_cells(r)
+        .into_iter()
+        .zip(CSV_COLUMNS)
+        .map(|(cell, column)| crate::samples::csv_cell_out(column, cell))
+        .collect()
+}
+
+/// The cells of a record, as stored, in [`CSV_COLUMNS`] order.
+fn csv_cells(r: &SampleRecord) -> Vec<String> {
     let top = r.identification.candidates.first();
     vec![
         r.id.clone(),
@@ -522,9 +634,9 @@ fn download(content_type: &'static str, name: &'static str, body: Body) -> Respo
 
 /// `GET /export/samples.csv`: RFC 4180, a header row, one row per sample.
 async fn export_csv(State(st): State<AppState>, RawQuery(raw): RawQuery) -> Response {
-    let q = match parse_query(raw.as_deref()) {
+    let q = match parse_api_query(raw.as_deref()) {
         Ok(q) => q,
-        Err(e) => return ApiError::Invalid(e).into_response(),
+        Err(e) => return e.into_response(),
     };
     let body = export_stream(st, q.filter, |batch, first, _last| {
         let mut w = csv::WriterBuilder::new()
@@ -548,9 +660,9 @@ async fn export_csv(State(st): State<AppState>, RawQuery(raw): RawQuery) -> Resp
 /// `GET /export/samples.geojson`: an RFC 7946 FeatureCollection of the
 /// samples with coordinates.
 async fn export_geojson(State(st): State<AppState>, RawQuery(raw): RawQuery) -> Response {
-    let q = match parse_query(raw.as_deref()) {
+    let q = match parse_api_query(raw.as_deref()) {
         Ok(q) => q,
-        Err(e) => return ApiError::Invalid(e).into_response(),
+        Err(e) => return e.into_response(),
     };
     let mut written = 0usize;
     let body = export_stream(st, q.filter, move |batch, first, last| {

@@ -1015,3 +1015,390 @@ async fn exports_larger_than_one_batch_hold_every_sample_once() {
     ids.dedup();
     assert_eq!(ids.len(), n);
 }
+
+// ---------------------------------------------------------------- fields the service sets
+
+#[tokio::test]
+async fn a_create_refuses_every_field_the_service_sets_by_name() {
+    // Arrange
+    let app = TestApp::new().await;
+    let cases: &[(&str, Value)] = &[
+        ("id", json!(uuid::Uuid::new_v4().to_string())),
+        ("created_at", json!("2026-07-14T09:30:00.000Z")),
+        ("updated_at", json!("2026-07-14T09:30:00.000Z")),
+        ("identification", json!({"candidates": []})),
+        ("base_version", json!("base-1")),
+        ("deleted", json!(false)),
+        ("revision", json!(1)),
+    ];
+    for (field, value) in cases {
+        let mut body = json!({"sample_code": format!("BV-{field}")});
+        body[*field] = value.clone();
+        // Act
+        let r = app.post_json(SAMPLES, &body.to_string()).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field}: {}",
+            r.text()
+        );
+        let (f, message) = r.error();
+        assert_eq!(f, *field);
+        assert!(message.contains("leave it out"), "{message}");
+        if *field == "id" {
+            assert!(message.contains("assigns"), "{message}");
+        }
+    }
+    assert!(list_codes(&app, "").await.is_empty(), "nothing was saved");
+}
+
+#[tokio::test]
+async fn a_field_the_record_does_not_have_is_refused_on_create_and_update() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let mut body = app.get(&url(&rec["id"])).await.json();
+    body["deleted_at"] = json!("2026-07-14T09:30:00.000Z");
+    // Act
+    let post = app
+        .post_json(SAMPLES, r#"{"sample_code": "X1", "top_candidate": "talc"}"#)
+        .await;
+    let put = app.put_json(&url(&rec["id"]), &body.to_string()).await;
+    // Assert
+    assert_eq!(post.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(post.error().0, "top_candidate");
+    assert_eq!(put.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(put.error().0, "deleted_at");
+}
+
+#[tokio::test]
+async fn an_update_refuses_each_changed_field_the_service_sets_by_name() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let fetched = app.get(&url(&rec["id"])).await.json();
+    let cases: &[(&str, Value)] = &[
+        ("created_at", json!("2020-01-01T00:00:00.000Z")),
+        ("updated_at", json!("2020-01-01T00:00:00.000Z")),
+        ("identification", json!({"candidates": []})),
+        ("base_version", json!("base-0")),
+        ("deleted", json!(true)),
+        ("id", json!(uuid::Uuid::new_v4().to_string())),
+    ];
+    for (field, value) in cases {
+        let mut body = fetched.clone();
+        body[*field] = value.clone();
+        body["notes"] = json!("changed");
+        // Act
+        let r = app.put_json(&url(&rec["id"]), &body.to_string()).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field}: {}",
+            r.text()
+        );
+        assert_eq!(r.error().0, *field);
+    }
+    let now = app.get(&url(&rec["id"])).await.json();
+    assert_eq!(now["revision"], 1, "nothing was saved");
+    assert_eq!(now["notes"], rec["notes"]);
+}
+
+#[tokio::test]
+async fn a_fetched_record_sent_back_unchanged_but_for_its_note_makes_a_new_revision() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let mut body = app.get(&url(&rec["id"])).await.json();
+    for field in [
+        "id",
+        "created_at",
+        "updated_at",
+        "identification",
+        "base_version",
+        "deleted",
+    ] {
+        assert!(body.get(field).is_some(), "a GET returns {field}");
+    }
+    body["notes"] = json!("flakes bend and stay bent; pale green streak");
+    // Act
+    let r = app.put_json(&url(&rec["id"]), &body.to_string()).await;
+    // Assert
+    assert_eq!(r.status, StatusCode::OK, "{}", r.text());
+    let v = r.json();
+    assert_eq!(v["revision"], 2);
+    assert_eq!(v["notes"], "flakes bend and stay bent; pale green streak");
+    assert_eq!(v["id"], rec["id"]);
+    assert_eq!(v["created_at"], rec["created_at"]);
+}
+
+#[tokio::test]
+async fn a_stale_record_sent_back_whole_is_still_a_conflict_not_a_refusal() {
+    // Arrange
+    let app = TestApp::new().await;
+    let rec = create(&app, &full_record()).await;
+    let old = app.get(&url(&rec["id"])).await.json();
+    let mut first = old.clone();
+    first["station"] = json!("BV-13");
+    assert_eq!(
+        app.put_json(&url(&rec["id"]), &first.to_string())
+            .await
+            .status,
+        StatusCode::OK
+    );
+    let mut second = old;
+    second["notes"] = json!("late edit");
+    // Act
+    let r = app.put_json(&url(&rec["id"]), &second.to_string()).await;
+    // Assert: updated_at differs now, but the answer is the 409 that shows
+    // the current record.
+    assert_eq!(r.status, StatusCode::CONFLICT, "{}", r.text());
+    assert_eq!(r.error().0, "revision");
+}
+
+// ---------------------------------------------------------------- invisible and control characters
+
+#[tokio::test]
+async fn bidirectional_and_control_characters_are_refused_naming_field_and_character() {
+    // Arrange
+    let app = TestApp::new().await;
+    let cases: &[(&str, &str, &str)] = &[
+        ("sample_code", "BV-\u{202E}100", "U+202E"),
+        ("sample_code", "BV-\u{2066}1", "U+2066"),
+        ("sample_code", "BV-\u{200F}1", "U+200F"),
+        ("sample_code", "BV-\u{0007}1", "U+0007"),
+        ("project", "bv\u{202D}", "U+202D"),
+        ("station", "BV\u{061C}-12", "U+061C"),
+        ("collector", "Field crew\u{200E} A", "U+200E"),
+        ("collector", "Field\tcrew", "U+0009"),
+        ("lithology", "phyl\u{0085}lite", "U+0085"),
+        ("lithology", "two\nlines", "U+000A"),
+        ("notes", "flakes \u{202B}bend", "U+202B"),
+        ("notes", "bell\u{0007}", "U+0007"),
+        ("notes", "lone\rreturn", "U+000D"),
+        ("edited_by", "crew\u{2069}", "U+2069"),
+    ];
+    for (field, value, code) in cases {
+        let mut body = json!({"sample_code": "BV-1"});
+        body[*field] = json!(value);
+        // Act
+        let r = app.post_json(SAMPLES, &body.to_string()).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{field} {value:?}: {}",
+            r.text()
+        );
+        let (f, message) = r.error();
+        assert_eq!(f, *field, "{value:?}");
+        assert!(message.contains(code), "{field}: {message}");
+    }
+    assert!(list_codes(&app, "").await.is_empty(), "nothing was saved");
+}
+
+#[tokio::test]
+async fn notes_keep_their_line_breaks_and_tabs() {
+    let app = TestApp::new().await;
+    let notes = "first line\r\nsecond\tline\nthird";
+    let rec = create(&app, &json!({"sample_code": "BV-1", "notes": notes})).await;
+    assert_eq!(rec["notes"], notes);
+}
+
+#[tokio::test]
+async fn a_lone_surrogate_is_refused_naming_its_field_in_plain_words() {
+    // Arrange
+    let app = TestApp::new().await;
+    for (body, field) in [
+        (r#"{"sample_code": "BV-1", "notes": "a\ud800b"}"#, "notes"),
+        (r#"{"sample_code": "BV-1", "station": "\udc00"}"#, "station"),
+        (r#"{"sample_code": "\ud800"}"#, "sample_code"),
+    ] {
+        // Act
+        let r = app.post_json(SAMPLES, body).await;
+        // Assert
+        assert_eq!(
+            r.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "{body}: {}",
+            r.text()
+        );
+        let (f, message) = r.error();
+        assert_eq!(f, field, "{body}");
+        assert!(message.contains("surrogate"), "{message}");
+        assert!(
+            !message.contains("hex escape"),
+            "our words, not the parser's: {message}"
+        );
+    }
+    let r = app.identify(r#"{"colour": ["\ud800"]}"#).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.text());
+    assert_eq!(r.error().0, "colour[0]");
+    assert!(!r.error().1.contains("hex escape"), "{}", r.error().1);
+}
+
+// ---------------------------------------------------------------- repeated query parameters
+
+#[tokio::test]
+async fn a_repeated_query_parameter_is_refused_with_400_naming_it() {
+    // Arrange
+    let app = TestApp::new().await;
+    scenario(&app).await;
+    for uri in [
+        format!("{SAMPLES}?project=bv&project=default"),
+        format!("{SAMPLES}?limit=2&q=chlorite&limit=3"),
+        "/export/samples.csv?field_id=chlorite&field_id=talc".to_string(),
+        "/export/samples.geojson?setting=greenschist&setting=".to_string(),
+    ] {
+        // Act
+        let r = app.get(&uri).await;
+        // Assert
+        assert_eq!(r.status, StatusCode::BAD_REQUEST, "{uri}: {}", r.text());
+        let (field, message) = r.error();
+        let name = uri
+            .split(['?', '&'])
+            .nth(1)
+            .and_then(|kv| kv.split('=').next())
+            .expect("first parameter");
+        let repeated = if uri.contains("limit=2") {
+            "limit"
+        } else {
+            name
+        };
+        assert_eq!(field, repeated, "{uri}");
+        assert!(message.contains("once"), "{message}");
+    }
+}
+
+// ---------------------------------------------------------------- formulas in the CSV export
+
+#[tokio::test]
+async fn csv_cells_a_spreadsheet_would_run_are_quoted_and_an_import_gives_the_same_records() {
+    // Arrange: text a spreadsheet would take for a formula, in every free
+    // text field, and a western longitude.
+    let app = TestApp::new().await;
+    let tricky = [
+        "=1+1",
+        "'=x",
+        "'plain",
+        "-",
+        "@home",
+        "+",
+        "-5 m",
+        "=HYPERLINK(\"http://example.invalid\",\"open\")",
+        "''+2",
+    ];
+    for (i, t) in tricky.iter().enumerate() {
+        create(
+            &app,
+            &json!({
+                "sample_code": if i == 0 { (*t).to_string() } else { format!("BV-{i:02}") },
+                "collector": t,
+                "station": t,
+                "lithology": t,
+                "notes": format!("{t}\nsecond line"),
+                "latitude": 64.1,
+                "longitude": -20.306,
+            }),
+        )
+        .await;
+    }
+    create(
+        &app,
+        &json!({"sample_code": "BV-tab", "notes": "'\tx", "latitude": 64.1, "longitude": -20.306}),
+    )
+    .await;
+    let before = app.get(&format!("{SAMPLES}?limit=500")).await.json();
+    // Act
+    let r = app.get("/export/samples.csv").await;
+    // Assert: the cells as a spreadsheet sees them.
+    assert_eq!(r.status, StatusCode::OK);
+    let mut rd = csv::Reader::from_reader(r.body.as_slice());
+    let headers = rd.headers().expect("header").clone();
+    let col = |name: &str| headers.iter().position(|h| h == name).expect("column");
+    let rows: Vec<csv::StringRecord> = rd.records().map(|r| r.expect("row")).collect();
+    for row in &rows {
+        for (i, cell) in row.iter().enumerate() {
+            let column = &headers[i];
+            let numeric = [
+                "latitude",
+                "longitude",
+                "coordinate_uncertainty_m",
+                "revision",
+                "top_probability",
+            ]
+            .contains(&column)
+                && cell.parse::<f64>().is_ok();
+            assert!(
+                numeric || !cell.starts_with(['=', '+', '-', '@', '\t', '\r']),
+                "{column} starts a formula: {cell:?}"
+            );
+        }
+        assert_eq!(&row[col("longitude")], "-20.306");
+    }
+    let first = rows
+        .iter()
+        .find(|r| &r[col("sample_code")] == "'=1+1")
+        .expect("the =1+1 row, quoted");
+    assert_eq!(&first[col("station")], "'=1+1");
+    let quoted = rows
+        .iter()
+        .find(|r| &r[col("sample_code")] == "BV-01")
+        .expect("BV-01");
+    assert_eq!(&quoted[col("collector")], "''=x");
+    let plain = rows
+        .iter()
+        .find(|r| &r[col("sample_code")] == "BV-02")
+        .expect("BV-02");
+    assert_eq!(&plain[col("collector")], "'plain");
+
+    // Act: import the file into an empty log.
+    let other = TestApp::new().await;
+    let pool = other.pool().await;
+    let report = basal::import::run(
+        &pool,
+        &r.body,
+        "default",
+        &Default::default(),
+        false,
+        None,
+        &|| {},
+        &|_| {},
+    )
+    .await
+    .expect("import");
+    // Assert: the same records, field for field.
+    assert!(report.errors.is_empty(), "{:?}", report.errors);
+    let after = other.get(&format!("{SAMPLES}?limit=500")).await.json();
+    assert_eq!(after["samples"], before["samples"]);
+}
+
+#[tokio::test]
+async fn the_sample_form_refuses_the_same_characters_with_the_same_message_and_keeps_the_values() {
+    // Arrange
+    let app = TestApp::new().await;
+    let mut s = crate::helpers::Session::new(&app);
+    s.get("/samples/new").await;
+    for (fields, code) in [
+        ("sample_code=BV-%E2%80%AE9&notes=kept+note", "U+202E"),
+        ("sample_code=BV-9&notes=kept+note%E2%81%A6", "U+2066"),
+        ("sample_code=BV-9&station=BV%07&notes=kept+note", "U+0007"),
+        (
+            "sample_code=BV-9&notes=kept+note&edited_by=crew%E2%80%8F",
+            "U+200F",
+        ),
+    ] {
+        // Act
+        let r = s
+            .submit("/samples", &format!("project=default&{fields}"))
+            .await;
+        // Assert
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{fields}");
+        let html = r.text();
+        assert!(html.contains(code), "{fields}: no message naming {code}");
+        assert!(html.contains("kept note"), "{fields}: the values are kept");
+    }
+    assert!(list_codes(&app, "").await.is_empty(), "nothing was saved");
+}
