@@ -178,6 +178,7 @@ async fn main() {
         config: Arc::new(basal::cli::Config {
             listen: "127.0.0.1:0".parse().expect("addr"),
             db: path.clone(),
+            ..Default::default()
         }),
     };
     let app = basal::web::app(state);
@@ -262,6 +263,7 @@ async fn main() {
     let config = basal::cli::Config {
         listen: "127.0.0.1:0".parse().expect("addr"),
         db: fresh,
+        ..Default::default()
     };
     let t = Instant::now();
     let report = basal::cli::import(&config, &csv_path, "bench", false, None)

@@ -461,6 +461,7 @@ impl Server {
             config: Arc::new(Config {
                 listen: addr,
                 db: db_path,
+                ..Default::default()
             }),
         };
         let (stop, stopped) = oneshot::channel::<()>();

@@ -23,6 +23,7 @@ async fn app() -> (axum::Router, tempfile::TempDir) {
         config: Arc::new(basal::cli::Config {
             listen: "127.0.0.1:0".parse().expect("addr"),
             db: path,
+            ..Default::default()
         }),
     };
     (basal::web::app(state), dir)

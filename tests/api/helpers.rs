@@ -59,6 +59,7 @@ impl TestApp {
         let config = Config {
             listen: "127.0.0.1:0".parse().expect("addr"),
             db: db_path,
+            ..Default::default()
         };
         let state = AppState {
             db,

@@ -80,6 +80,7 @@ async fn the_service_answers_over_a_real_socket_and_shuts_down() {
         config: std::sync::Arc::new(basal::cli::Config {
             listen: addr,
             db: dir.path().join("s.sqlite"),
+            ..Default::default()
         }),
     };
     let (tx, rx) = tokio::sync::oneshot::channel::<()>();
