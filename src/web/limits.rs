@@ -220,11 +220,19 @@ pub async fn shape_bare_errors(req: Request, next: Next) -> Response {
     let (title, message) = match status {
         StatusCode::METHOD_NOT_ALLOWED => (
             "Not allowed here",
-            format!(
-                "{path} does not take {method} requests; it takes {}. Use the links and forms on basal's pages \
-                 (or the methods the API contract lists).",
-                if allowed.is_empty() { "other methods" } else { &allowed }
-            ),
+            // The router adds `Allow` after this layer has run, so it is
+            // often not known here; the answer carries it all the same.
+            if allowed.is_empty() {
+                format!(
+                    "{path} does not take {method} requests (the Allow header lists the ones it takes). Use the \
+                     links and forms on basal's pages, or the methods the API contract lists."
+                )
+            } else {
+                format!(
+                    "{path} does not take {method} requests; it takes {allowed}. Use the links and forms on \
+                     basal's pages, or the methods the API contract lists."
+                )
+            },
         ),
         StatusCode::PAYLOAD_TOO_LARGE => return too_large(&path),
         StatusCode::REQUEST_TIMEOUT => (

@@ -14,6 +14,8 @@ use tower::ServiceExt;
 /// An app and the temporary folder that holds its database.
 pub struct TestApp {
     pub router: Router,
+    /// The state the router was built over.
+    pub state: AppState,
     pub _dir: tempfile::TempDir,
 }
 
@@ -53,21 +55,28 @@ impl Reply {
 
 impl TestApp {
     pub async fn new() -> TestApp {
+        TestApp::with_config(|_| {}).await
+    }
+
+    /// An app whose configuration `adjust` changes first.
+    pub async fn with_config(adjust: impl FnOnce(&mut Config)) -> TestApp {
         let dir = tempfile::tempdir().expect("tempdir");
         let db_path = dir.path().join("basal.sqlite");
         let db = basal::store::open(&db_path).await.expect("open db");
-        let config = Config {
+        let mut config = Config {
             listen: "127.0.0.1:0".parse().expect("addr"),
             db: db_path,
             ..Default::default()
         };
+        adjust(&mut config);
         let state = AppState {
             db,
             engine: Engine::builtin(),
             config: Arc::new(config),
         };
         TestApp {
-            router: app(state),
+            router: app(state.clone()),
+            state,
             _dir: dir,
         }
     }
