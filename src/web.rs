@@ -218,10 +218,20 @@ pub async fn serve(config: Config) -> Result<(), ServeError> {
         "database open and migrated; ready"
     );
     if config.exposed() {
+        let names = if config.listen.ip().is_unspecified() {
+            "Other computers must use a name or address given with --public-host (such as this computer's \
+             address on the network); any other name is refused."
+                .to_string()
+        } else {
+            format!(
+                "Other computers must use {} or a name given with --public-host; any other name is refused.",
+                config.listen.ip()
+            )
+        };
         tracing::warn!(
             "WARNING: basal listens on {addr}, where other computers can reach it, and has no accounts yet: \
              anyone on this network can read, change, delete and export the whole log \
-             (--allow-anyone-on-the-network). Browsers on other computers must use a name given with --public-host."
+             (--allow-anyone-on-the-network). {names}"
         );
     }
     log_panics();
