@@ -77,7 +77,7 @@ pub fn allowed(host: &str, config: &Config) -> bool {
                 .iter()
                 .any(|h| h.parse::<IpAddr>().is_ok_and(|p| p == ip));
     }
-    name == "localhost" || config.public_hosts.iter().any(|h| *h == name)
+    name == "localhost" || config.public_hosts.contains(&name)
 }
 
 /// Middleware: 421 for a request that names a host basal does not answer to.
