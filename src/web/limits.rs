@@ -235,6 +235,7 @@ pub async fn shape_bare_errors(req: Request, next: Next) -> Response {
             },
         ),
         StatusCode::PAYLOAD_TOO_LARGE => return too_large(&path),
+        StatusCode::NOT_FOUND => ("Not found", format!("There is nothing at {path}.")),
         StatusCode::REQUEST_TIMEOUT => (
             "Too slow",
             "The request did not arrive in time, so it was given up and nothing was saved. Send it again."

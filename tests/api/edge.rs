@@ -513,3 +513,12 @@ async fn every_page_warns_in_its_footer_when_anyone_on_the_network_may_use_it() 
         );
     }
 }
+
+#[tokio::test]
+async fn a_missing_stylesheet_file_gets_the_404_page() {
+    let app = TestApp::new().await;
+    let r = app.get("/static/nothing-here.css").await;
+    assert_eq!(r.status, StatusCode::NOT_FOUND);
+    assert!(is_html(&r), "a page, not an empty body");
+    assert!(r.text().contains("/static/nothing-here.css"), "{}", r.text());
+}
