@@ -520,5 +520,9 @@ async fn a_missing_stylesheet_file_gets_the_404_page() {
     let r = app.get("/static/nothing-here.css").await;
     assert_eq!(r.status, StatusCode::NOT_FOUND);
     assert!(is_html(&r), "a page, not an empty body");
-    assert!(r.text().contains("/static/nothing-here.css"), "{}", r.text());
+    assert!(
+        r.text().contains("/static/nothing-here.css"),
+        "{}",
+        r.text()
+    );
 }
