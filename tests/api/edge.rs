@@ -526,3 +526,43 @@ async fn a_missing_stylesheet_file_gets_the_404_page() {
         r.text()
     );
 }
+
+async fn breaking_stream() -> Body {
+    use futures_util::StreamExt;
+    let rows = futures_util::stream::iter(0..3).map(|i| {
+        if i == 1 {
+            panic!("a test stream breaks on purpose");
+        }
+        Ok::<_, std::io::Error>(axum::body::Bytes::from("row\n"))
+    });
+    Body::from_stream(rows)
+}
+
+#[tokio::test]
+async fn a_body_that_panics_behind_the_edge_ends_in_an_error_not_a_panic() {
+    use axum::routing::get;
+    use http_body_util::BodyExt;
+    use tower::ServiceExt;
+    // Arrange: a streaming route of the test's own behind the edge.
+    let app = TestApp::new().await;
+    let routes = axum::Router::new().route("/breaks", get(breaking_stream));
+    let router = basal::web::with_edge(routes, app.state.clone());
+    for accept in ["identity", "gzip"] {
+        // Act
+        let resp = router
+            .clone()
+            .oneshot(
+                Request::get("/breaks")
+                    .header("accept-encoding", accept)
+                    .body(Body::empty())
+                    .expect("request"),
+            )
+            .await
+            .expect("infallible");
+        assert_eq!(resp.status(), StatusCode::OK);
+        // Assert: reading the body gives an error (hyper then cuts the
+        // connection); the panic does not reach the task that reads it.
+        let read = resp.into_body().collect().await;
+        assert!(read.is_err(), "{accept}: the body ends in an error");
+    }
+}
