@@ -81,6 +81,28 @@ pub struct ServeArgs {
     /// (on Linux $XDG_DATA_HOME/basal, usually ~/.local/share/basal).
     #[arg(long, env = "BASAL_DB", global = true)]
     pub db: Option<PathBuf>,
+    /// A host name (or address) browsers may use to reach this service,
+    /// besides localhost and the loopback addresses; repeat it for several
+    /// names (the environment variable takes them comma-separated). Any
+    /// other name in a request's Host is refused (421), which keeps pages
+    /// on other sites from reaching the log through DNS rebinding.
+    #[arg(
+        long = "public-host",
+        value_name = "NAME",
+        env = "BASAL_PUBLIC_HOST",
+        value_delimiter = ',',
+        global = true
+    )]
+    pub public_host: Vec<String>,
+    /// Allow listening on an address other computers can reach. basal has
+    /// no accounts yet: anyone on the network can then read, change,
+    /// delete and export the whole log.
+    #[arg(
+        long = "allow-anyone-on-the-network",
+        env = "BASAL_ALLOW_ANYONE_ON_THE_NETWORK",
+        global = true
+    )]
+    pub allow_anyone_on_the_network: bool,
     /// The time zone where the people using this service are, as an IANA
     /// name such as Pacific/Auckland or Europe/Oslo: it gives "today" for
     /// new samples and the offset beside every time shown (a browser does
@@ -128,10 +150,52 @@ pub struct Config {
     pub listen: SocketAddr,
     /// Database file.
     pub db: PathBuf,
+    /// Host names accepted in requests besides the loopback names and the
+    /// listening address (`--public-host`), lower case.
+    pub public_hosts: Vec<String>,
+    /// `--allow-anyone-on-the-network`: the operator accepts that a
+    /// non-loopback listener lets anyone on the network use the log; every
+    /// page then says so in its footer.
+    pub allow_anyone_on_the_network: bool,
+    /// How long a connection may take to send a complete request head,
+    /// and how long an idle keep-alive connection is kept. Short, so that
+    /// sockets that never finish a request give their slot back soon.
+    pub header_timeout: std::time::Duration,
+    /// Connections served at once; further ones wait in the kernel's
+    /// accept queue until a slot frees up.
+    pub max_connections: usize,
     /// Where the people are: "today" and the times shown are in this zone.
     pub time_zone: jiff::tz::TimeZone,
     /// Where "now" comes from.
     pub clock: Clock,
+}
+
+/// Default of [`Config::header_timeout`]: 10 s. A browser sends its whole
+/// request head in one packet, in milliseconds even over a poor camp
+/// network (common practice); a keep-alive connection idle for 10 s is
+/// opened again at the cost of one TCP handshake.
+pub const HEADER_TIMEOUT: std::time::Duration = std::time::Duration::from_secs(10);
+
+/// Default of [`Config::max_connections`]: 512. A browser opens at most 6
+/// connections to one host, so this serves 80 browsers at once, far more
+/// than a crew; it stays well under the usual limit of 1024 open files per
+/// process with room for the database and the log. With the 10 s header
+/// timeout a flood of idle sockets holds each slot at most 10 s.
+pub const MAX_CONNECTIONS: usize = 512;
+
+impl Default for Config {
+    fn default() -> Self {
+        Config {
+            listen: SocketAddr::from(([127, 0, 0, 1], 8080)),
+            db: default_db_path(),
+            public_hosts: Vec::new(),
+            allow_anyone_on_the_network: false,
+            header_timeout: HEADER_TIMEOUT,
+            max_connections: MAX_CONNECTIONS,
+            time_zone: jiff::tz::TimeZone::system(),
+            clock: Clock::System,
+        }
+    }
 }
 
 impl Config {
@@ -141,8 +205,7 @@ impl Config {
         Config {
             listen,
             db,
-            time_zone: jiff::tz::TimeZone::system(),
-            clock: Clock::System,
+            ..Config::default()
         }
     }
 
@@ -165,10 +228,65 @@ impl ServeArgs {
     /// Resolves defaults into a [`Config`].
     pub fn config(&self) -> Config {
         let mut c = Config::new(self.listen, self.db.clone().unwrap_or_else(default_db_path));
+        c.public_hosts = self
+            .public_host
+            .iter()
+            .map(|h| h.trim().trim_end_matches('.').to_ascii_lowercase())
+            .filter(|h| !h.is_empty())
+            .collect();
+        c.allow_anyone_on_the_network = self.allow_anyone_on_the_network;
         if let Some(z) = &self.time_zone {
             c.time_zone = z.clone();
         }
         c
+    }
+}
+
+/// Why `basal serve` refuses to start with these options.
+#[derive(Debug, thiserror::Error)]
+pub enum StartError {
+    /// A non-loopback listening address without the explicit consent.
+    #[error(
+        "refusing to listen on {0}: that address can be reached from other computers, and basal has no accounts yet, \
+         so anyone on the network could read, change, delete and export the whole log. Listen on 127.0.0.1 \
+         (the default) to use basal on this computer only, or, if everyone on this network may do all that, \
+         start again with --allow-anyone-on-the-network (or BASAL_ALLOW_ANYONE_ON_THE_NETWORK=true)"
+    )]
+    Exposed(SocketAddr),
+    /// A `--public-host` that is not a bare host name or address.
+    #[error(
+        "--public-host {0:?} is not a host name or address: give the bare name browsers use, such as \
+         basal.camp or 192.168.1.20, with no scheme, port or path"
+    )]
+    PublicHost(String),
+}
+
+impl Config {
+    /// Checks the options before anything is opened or bound: a listener
+    /// other computers can reach needs `--allow-anyone-on-the-network`,
+    /// and every `--public-host` must be a bare name.
+    pub fn check_start(&self) -> Result<(), StartError> {
+        if !self.listen.ip().is_loopback() && !self.allow_anyone_on_the_network {
+            return Err(StartError::Exposed(self.listen));
+        }
+        for h in &self.public_hosts {
+            let bare = h.parse::<std::net::IpAddr>().is_ok()
+                || (h.len() <= 253
+                    && h.split('.').all(|label| {
+                        !label.is_empty()
+                            && label.len() <= 63
+                            && label.chars().all(|c| c.is_ascii_alphanumeric() || c == '-')
+                    }));
+            if !bare {
+                return Err(StartError::PublicHost(h.clone()));
+            }
+        }
+        Ok(())
+    }
+
+    /// True when the service listens where other computers can reach it.
+    pub fn exposed(&self) -> bool {
+        !self.listen.ip().is_loopback()
     }
 }
 
@@ -434,6 +552,54 @@ mod tests {
             let text = err.to_string();
             assert!(text.contains("--time-zone"), "{bad}: {text}");
             assert!(text.contains("Pacific/Auckland"), "{bad}: {text}");
+        }
+    }
+
+    #[test]
+    fn a_listener_other_computers_can_reach_needs_the_explicit_flag() {
+        for addr in ["0.0.0.0:8080", "192.168.1.20:8080", "[::]:8080"] {
+            let cli = Cli::try_parse_from(["basal", "serve", "--listen", addr]).expect("parses");
+            let err = cli.serve.config().check_start().expect_err(addr);
+            let msg = err.to_string();
+            assert!(
+                msg.contains("--allow-anyone-on-the-network") && msg.contains("no accounts"),
+                "{addr}: {msg}"
+            );
+            let cli = Cli::try_parse_from([
+                "basal",
+                "serve",
+                "--listen",
+                addr,
+                "--allow-anyone-on-the-network",
+            ])
+            .expect("parses");
+            let cfg = cli.serve.config();
+            assert!(cfg.allow_anyone_on_the_network && cfg.exposed());
+            assert!(cfg.check_start().is_ok(), "{addr} with the flag");
+        }
+        for addr in ["127.0.0.1:8080", "127.0.0.2:9000", "[::1]:8080"] {
+            let cli = Cli::try_parse_from(["basal", "serve", "--listen", addr]).expect("parses");
+            assert!(cli.serve.config().check_start().is_ok(), "{addr}");
+        }
+    }
+
+    #[test]
+    fn public_hosts_repeat_and_must_be_bare_names() {
+        let cli = Cli::try_parse_from([
+            "basal",
+            "--public-host",
+            "Basal.Camp.",
+            "--public-host",
+            "192.168.1.20",
+        ])
+        .expect("parses");
+        let cfg = cli.serve.config();
+        assert_eq!(cfg.public_hosts, ["basal.camp", "192.168.1.20"]);
+        assert!(cfg.check_start().is_ok());
+        for bad in ["http://basal.camp", "basal.camp:8080", "a b", "x/y"] {
+            let cli = Cli::try_parse_from(["basal", "--public-host", bad]).expect("parses");
+            let err = cli.serve.config().check_start().expect_err(bad);
+            assert!(err.to_string().contains("--public-host"), "{bad}: {err}");
         }
     }
 

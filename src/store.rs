@@ -49,6 +49,21 @@ pub enum StoreError {
         /// The decoder's message.
         detail: String,
     },
+    /// The file was migrated by a newer basal: its schema is ahead of the
+    /// migrations this binary knows, so it is left exactly as it is.
+    #[error(
+        "the database {path} was written by a newer basal: its schema is at version {found}, and this basal \
+         knows versions up to {known}. Nothing in the file was changed. Run the newer basal on it, or give this \
+         one another file with --db"
+    )]
+    Newer {
+        /// The database file.
+        path: String,
+        /// The highest migration recorded in the file.
+        found: i64,
+        /// The highest migration this binary knows.
+        known: i64,
+    },
     /// A migration failed.
     #[error("database migration failed: {0}")]
     Migrate(#[from] sqlx::migrate::MigrateError),
@@ -92,8 +107,47 @@ pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
         .connect_with(opts)
         .await
         .context("opening the database")?;
+    if let Err(e) = refuse_newer(&pool, path).await {
+        pool.close().await;
+        return Err(e);
+    }
     MIGRATOR.run(&pool).await?;
     Ok(pool)
+}
+
+/// The highest migration this binary knows.
+pub fn schema_version() -> i64 {
+    MIGRATOR.iter().map(|m| m.version).max().unwrap_or(0)
+}
+
+/// Fails, reading only, when the file records a migration this binary
+/// does not know (a newer basal wrote it).
+async fn refuse_newer(pool: &SqlitePool, path: &Path) -> Result<(), StoreError> {
+    let has_table: Option<String> = sqlx::query_scalar(
+        "SELECT name FROM sqlite_master WHERE type = 'table' AND name = '_sqlx_migrations'",
+    )
+    .fetch_optional(pool)
+    .await
+    .context("reading the schema version")?;
+    if has_table.is_none() {
+        return Ok(());
+    }
+    let applied: Vec<i64> = sqlx::query_scalar("SELECT version FROM _sqlx_migrations")
+        .fetch_all(pool)
+        .await
+        .context("reading the schema version")?;
+    let known = schema_version();
+    let unknown = applied
+        .iter()
+        .any(|v| !MIGRATOR.iter().any(|m| m.version == *v));
+    if unknown {
+        return Err(StoreError::Newer {
+            path: path.display().to_string(),
+            found: applied.iter().copied().max().unwrap_or(0),
+            known,
+        });
+    }
+    Ok(())
 }
 
 /// Starts a write transaction: the one path every write takes.
@@ -194,6 +248,42 @@ pub enum Pragma {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[tokio::test]
+    async fn a_database_from_a_newer_basal_is_refused_in_words_and_left_as_it_was() {
+        // Arrange: a migrated file that records a migration from the future.
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = dir.path().join("newer.sqlite");
+        let pool = open(&path).await.expect("open");
+        sqlx::query(
+            "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
+             VALUES (9999, 'from a newer basal', 1, x'00', 0)",
+        )
+        .execute(&pool)
+        .await
+        .expect("fake row");
+        sqlx::query("PRAGMA wal_checkpoint(TRUNCATE)")
+            .execute(&pool)
+            .await
+            .expect("checkpoint");
+        pool.close().await;
+        let before = std::fs::read(&path).expect("read");
+        // Act
+        let err = open(&path).await.expect_err("a newer schema is refused");
+        // Assert
+        let msg = err.to_string();
+        assert!(msg.contains("newer basal"), "{msg}");
+        assert!(msg.contains("version 9999"), "{msg}");
+        assert!(
+            msg.contains(&format!("versions up to {}", schema_version())),
+            "{msg}"
+        );
+        assert!(msg.contains("Nothing in the file was changed"), "{msg}");
+        assert!(
+            std::fs::read(&path).expect("read") == before,
+            "the file is byte-identical after the attempt"
+        );
+    }
 
     #[tokio::test]
     async fn opening_creates_the_folder_and_file_and_sets_durability() {

@@ -9,15 +9,23 @@
 //!    `basal_csrf` cookie (double submit). Another site can neither read
 //!    the cookie nor set it for this origin, so it cannot fill the field.
 //!
-//! The JSON API is left out: it accepts only `application/json`, which a
-//! cross-site HTML form cannot send.
+//! The JSON API has no token; every request that may change state there
+//! (POST, PUT, PATCH, DELETE) must not come from another site either
+//! (403, the error shape), and a body it carries must be
+//! `application/json` (415), which no cross-site form or simple request
+//! can send. A request with no body (DELETE, restore) may leave the
+//! content type out. Programs such as curl send no `Origin` and pass.
+//!
+//! Every HTML page this layer hands a token is sent with
+//! `Cache-Control: no-store`, so the token never sits in a cache.
 
 use axum::extract::Request;
 use axum::http::{HeaderMap, HeaderValue, Method, header};
 use axum::middleware::Next;
 use axum::response::{IntoResponse, Response};
 
-use super::error::PageError;
+use super::error::{ApiError, PageError};
+use crate::engine::FieldError;
 
 /// Name of the cookie and of the hidden form field.
 pub const COOKIE: &str = "basal_csrf";
@@ -61,10 +69,50 @@ pub(crate) fn same_origin(headers: &HeaderMap) -> bool {
     true
 }
 
+/// Whether a request carries a body (or says it does).
+fn has_body(headers: &HeaderMap) -> bool {
+    headers.contains_key(header::TRANSFER_ENCODING)
+        || headers.contains_key(header::CONTENT_TYPE)
+        || headers
+            .get(header::CONTENT_LENGTH)
+            .and_then(|v| v.to_str().ok())
+            .is_some_and(|v| v.trim() != "0")
+}
+
+/// The API's refusal of a write, if it must be refused.
+fn refuse_api_write(method: &Method, headers: &HeaderMap) -> Option<Response> {
+    if !matches!(
+        *method,
+        Method::POST | Method::PUT | Method::PATCH | Method::DELETE
+    ) {
+        return None;
+    }
+    if !same_origin(headers) {
+        return Some(
+            ApiError::Status(
+                axum::http::StatusCode::FORBIDDEN,
+                FieldError::new(
+                    "",
+                    "this request came from another site (its Origin or Sec-Fetch-Site says so), and other sites                      may not use basal's API; nothing was changed. Send it from a program (curl, a script), which                      sends no Origin, or use basal's own pages",
+                ),
+            )
+            .into_response(),
+        );
+    }
+    if has_body(headers) && super::api::require_json(headers).is_err() {
+        return Some(ApiError::UnsupportedMediaType.into_response());
+    }
+    None
+}
+
 /// Middleware: hands every page a token (setting the cookie when the
-/// browser has none) and refuses cross-site POSTs to the pages.
+/// browser has none), refuses cross-site POSTs to the pages and
+/// cross-site or non-JSON writes to the API.
 pub async fn layer(mut req: Request, next: Next) -> Response {
     let is_api = req.uri().path().starts_with("/api/");
+    if is_api && let Some(refusal) = refuse_api_write(req.method(), req.headers()) {
+        return refusal;
+    }
     if !is_api && req.method() == Method::POST && !same_origin(req.headers()) {
         return PageError::Forbidden(
             "This form was sent from another site or page, not from basal itself, so it was refused and nothing was changed. \
@@ -79,6 +127,16 @@ pub async fn layer(mut req: Request, next: Next) -> Response {
         .unwrap_or_else(|| uuid::Uuid::new_v4().simple().to_string());
     req.extensions_mut().insert(CsrfToken(token.clone()));
     let mut resp = next.run(req).await;
+    let html = resp
+        .headers()
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|v| v.starts_with("text/html"));
+    if !is_api && html {
+        resp.headers_mut()
+            .entry(header::CACHE_CONTROL)
+            .or_insert(HeaderValue::from_static("no-store"));
+    }
     if existing.is_none()
         && !is_api
         && let Ok(v) = HeaderValue::from_str(&format!(

@@ -39,6 +39,11 @@ pub enum ApiError {
     /// 500: a fault of ours; the cause is logged, never shown.
     #[error("internal error: {0}")]
     Internal(String),
+    /// Any other status the edge answers with the error shape (403 for a
+    /// cross-site write, 405, 408, 421 for a foreign host name, a 500 after
+    /// a panic that was logged already).
+    #[error("{0}: {1}")]
+    Status(StatusCode, FieldError),
 }
 
 impl From<InputError> for ApiError {
@@ -76,6 +81,7 @@ impl IntoResponse for ApiError {
                 FieldError::new("", "send the body as Content-Type: application/json"),
             ),
             ApiError::Invalid(f) => (StatusCode::UNPROCESSABLE_ENTITY, f),
+            ApiError::Status(status, f) => (status, f),
             ApiError::Internal(cause) => {
                 tracing::error!(error.cause = %cause, "internal error");
                 (

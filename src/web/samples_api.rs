@@ -616,9 +616,12 @@ where
             }
         }
     });
-    let stream = futures_util::stream::unfold(rx, |mut rx| async move {
-        rx.recv().await.map(|item| (item, rx))
-    });
+    // A stream straight over the receiver: once the sender is gone it
+    // answers `None` on every poll, however often it is polled. (The
+    // compression layer polls once more after the end; a stream built
+    // with `unfold` panics then, and the download came back empty.)
+    let mut rx = rx;
+    let stream = futures_util::stream::poll_fn(move |cx| rx.poll_recv(cx));
     Body::from_stream(stream)
 }
 

@@ -14,6 +14,8 @@ use tower::ServiceExt;
 /// An app and the temporary folder that holds its database.
 pub struct TestApp {
     pub router: Router,
+    /// The state the router was built over.
+    pub state: AppState,
     pub _dir: tempfile::TempDir,
 }
 
@@ -70,7 +72,8 @@ impl TestApp {
             config: Arc::new(config),
         };
         TestApp {
-            router: app(state),
+            router: app(state.clone()),
+            state,
             _dir: dir,
         }
     }

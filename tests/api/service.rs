@@ -86,7 +86,7 @@ async fn the_service_answers_over_a_real_socket_and_shuts_down() {
     // A minimal HTTP/1.1 exchange on the socket, no client library needed.
     use tokio::io::{AsyncReadExt, AsyncWriteExt};
     let mut s = tokio::net::TcpStream::connect(addr).await.expect("connect");
-    s.write_all(b"GET /healthz HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n")
+    s.write_all(b"GET /healthz HTTP/1.1\r\nHost: 127.0.0.1\r\nConnection: close\r\n\r\n")
         .await
         .expect("write");
     let mut buf = String::new();
