@@ -9,6 +9,7 @@ pub mod error;
 pub mod flow;
 pub mod forms;
 pub mod log_admin;
+pub mod openapi;
 pub mod pages;
 pub mod reference;
 pub mod samples_api;
@@ -58,6 +59,7 @@ pub fn app(state: AppState) -> Router {
         .merge(samples_api::router())
         .merge(samples_pages::router())
         .merge(log_admin::router())
+        .merge(openapi::router())
         .fallback(pages::not_found)
         .with_state(state)
         .layer(axum::middleware::from_fn(csrf::layer))

@@ -401,3 +401,433 @@ fn no_file_points_users_at_a_document_outside_the_repository() {
         }
     }
 }
+
+// ---------------------------------------------------------------------------
+// The OpenAPI description
+
+async fn openapi(app: &TestApp) -> serde_json::Value {
+    let r = app.get("/api/v1/openapi.json").await;
+    assert_eq!(r.status, StatusCode::OK);
+    r.json()
+}
+
+#[tokio::test]
+async fn the_openapi_description_lists_exactly_the_api_routes_of_the_router() {
+    // Arrange
+    let app = TestApp::new().await;
+    let found = routes_from_source();
+    // Act
+    let doc = openapi(&app).await;
+    // Assert
+    assert_eq!(doc["openapi"], "3.1.0");
+    let paths = doc["paths"].as_object().expect("paths");
+    for (path, methods) in found.routes.iter().filter(|(p, _)| p.starts_with("/api/")) {
+        for m in methods {
+            assert!(
+                paths
+                    .get(path)
+                    .and_then(|item| item.get(m.to_ascii_lowercase()))
+                    .is_some(),
+                "{m} {path} is served but missing from GET /api/v1/openapi.json (src/web/openapi.rs)"
+            );
+        }
+    }
+    for (path, item) in paths {
+        for method in item.as_object().expect("a path item").keys() {
+            let m = method.to_ascii_uppercase();
+            assert!(
+                found.routes.get(path).is_some_and(|ms| ms.contains(&m)),
+                "the OpenAPI description lists {m} {path}, which the router does not serve"
+            );
+        }
+    }
+}
+
+#[tokio::test]
+async fn the_openapi_description_is_get_only_with_the_usual_headers() {
+    let app = TestApp::new().await;
+    for method in [Method::POST, Method::PUT, Method::DELETE] {
+        let req = Request::builder()
+            .method(method.clone())
+            .uri("/api/v1/openapi.json")
+            .header("content-type", "application/json")
+            .body(Body::from("{}"))
+            .expect("a request");
+        assert_eq!(
+            app.send(req).await.status,
+            StatusCode::METHOD_NOT_ALLOWED,
+            "{method} /api/v1/openapi.json"
+        );
+    }
+    let req = Request::get("/api/v1/openapi.json")
+        .body(Body::empty())
+        .expect("a request");
+    let r = app.send(req).await;
+    assert_eq!(
+        r.headers.get("content-type").and_then(|v| v.to_str().ok()),
+        Some("application/json")
+    );
+    assert!(r.headers.contains_key("content-security-policy"));
+    assert!(r.headers.contains_key("x-content-type-options"));
+}
+
+/// A JSON Schema (2020-12) subset validator: enough for the description
+/// basal serves. A keyword it does not know fails the test, so a schema can
+/// never pass by being ignored; `pattern` and `format` are not checked.
+struct Validator<'a> {
+    schemas: &'a serde_json::Map<String, serde_json::Value>,
+}
+
+impl Validator<'_> {
+    fn check(
+        &self,
+        schema: &serde_json::Value,
+        v: &serde_json::Value,
+        at: &str,
+        errs: &mut Vec<String>,
+    ) {
+        use serde_json::Value;
+        let Some(obj) = schema.as_object() else {
+            if schema == &Value::Bool(false) {
+                errs.push(format!("{at}: nothing is allowed here"));
+            }
+            return;
+        };
+        for (k, s) in obj {
+            match k.as_str() {
+                "$ref" => {
+                    let name = s
+                        .as_str()
+                        .and_then(|r| r.strip_prefix("#/components/schemas/"))
+                        .unwrap_or_else(|| panic!("{at}: unsupported $ref {s}"));
+                    let target = self
+                        .schemas
+                        .get(name)
+                        .unwrap_or_else(|| panic!("{at}: $ref to missing schema {name}"));
+                    self.check(target, v, at, errs);
+                }
+                "type" => {
+                    let types: Vec<&str> = match s {
+                        Value::String(t) => vec![t.as_str()],
+                        Value::Array(ts) => ts.iter().filter_map(Value::as_str).collect(),
+                        _ => panic!("{at}: bad type {s}"),
+                    };
+                    let ok = types.iter().any(|t| match *t {
+                        "null" => v.is_null(),
+                        "boolean" => v.is_boolean(),
+                        "object" => v.is_object(),
+                        "array" => v.is_array(),
+                        "string" => v.is_string(),
+                        "number" => v.is_number(),
+                        "integer" => v.is_i64() || v.is_u64(),
+                        other => panic!("{at}: unknown type {other}"),
+                    });
+                    if !ok {
+                        errs.push(format!("{at}: {v} is not of type {s}"));
+                    }
+                }
+                "enum" => {
+                    if !s.as_array().expect("enum is a list").contains(v) {
+                        errs.push(format!("{at}: {v} is not one of {s}"));
+                    }
+                }
+                "properties" => {
+                    if let Some(o) = v.as_object() {
+                        for (name, sub) in s.as_object().expect("properties") {
+                            if let Some(x) = o.get(name) {
+                                self.check(sub, x, &format!("{at}.{name}"), errs);
+                            }
+                        }
+                    }
+                }
+                "required" => {
+                    if let Some(o) = v.as_object() {
+                        for name in s
+                            .as_array()
+                            .expect("required")
+                            .iter()
+                            .filter_map(Value::as_str)
+                        {
+                            if !o.contains_key(name) {
+                                errs.push(format!("{at}: required field {name} is missing"));
+                            }
+                        }
+                    }
+                }
+                "additionalProperties" => {
+                    if let Some(o) = v.as_object() {
+                        let known = obj.get("properties").and_then(Value::as_object);
+                        for (name, x) in o {
+                            if known.is_some_and(|k| k.contains_key(name)) {
+                                continue;
+                            }
+                            match s {
+                                Value::Bool(false) => {
+                                    errs.push(format!("{at}: unknown field {name}"))
+                                }
+                                Value::Bool(true) => {}
+                                sub => self.check(sub, x, &format!("{at}.{name}"), errs),
+                            }
+                        }
+                    }
+                }
+                "minProperties" => {
+                    if let Some(o) = v.as_object()
+                        && (o.len() as u64) < s.as_u64().expect("a count")
+                    {
+                        errs.push(format!("{at}: fewer than {s} fields"));
+                    }
+                }
+                "items" => {
+                    if let Some(a) = v.as_array() {
+                        for (i, x) in a.iter().enumerate() {
+                            self.check(s, x, &format!("{at}[{i}]"), errs);
+                        }
+                    }
+                }
+                "minItems" | "maxItems" => {
+                    if let Some(a) = v.as_array() {
+                        let n = s.as_u64().expect("a count");
+                        let len = a.len() as u64;
+                        if (k == "minItems" && len < n) || (k == "maxItems" && len > n) {
+                            errs.push(format!("{at}: {len} items breaks {k} {n}"));
+                        }
+                    }
+                }
+                "minLength" | "maxLength" => {
+                    if let Some(t) = v.as_str() {
+                        let n = s.as_u64().expect("a length");
+                        let len = t.chars().count() as u64;
+                        if (k == "minLength" && len < n) || (k == "maxLength" && len > n) {
+                            errs.push(format!("{at}: length {len} breaks {k} {n}"));
+                        }
+                    }
+                }
+                "minimum" | "maximum" | "exclusiveMinimum" | "exclusiveMaximum" => {
+                    if let Some(x) = v.as_f64() {
+                        let b = s.as_f64().expect("a bound");
+                        let ok = match k.as_str() {
+                            "minimum" => x >= b,
+                            "maximum" => x <= b,
+                            "exclusiveMinimum" => x > b,
+                            _ => x < b,
+                        };
+                        if !ok {
+                            errs.push(format!("{at}: {x} breaks {k} {b}"));
+                        }
+                    }
+                }
+                "oneOf" | "anyOf" => {
+                    let passing = s
+                        .as_array()
+                        .expect("a list of schemas")
+                        .iter()
+                        .filter(|sub| {
+                            let mut e = Vec::new();
+                            self.check(sub, v, at, &mut e);
+                            e.is_empty()
+                        })
+                        .count();
+                    if (k == "oneOf" && passing != 1) || (k == "anyOf" && passing == 0) {
+                        errs.push(format!(
+                            "{at}: {v} matches {passing} of the {k} alternatives"
+                        ));
+                    }
+                }
+                "allOf" => {
+                    for sub in s.as_array().expect("a list of schemas") {
+                        self.check(sub, v, at, errs);
+                    }
+                }
+                "description" | "format" | "title" | "default" | "example" | "examples"
+                | "pattern" | "deprecated" | "readOnly" | "writeOnly" => {}
+                other => {
+                    panic!("{at}: the test's validator does not know the keyword {other}; teach it")
+                }
+            }
+        }
+    }
+}
+
+fn validate(doc: &serde_json::Value, schema: &str, value: &serde_json::Value) -> Vec<String> {
+    let schemas = doc["components"]["schemas"]
+        .as_object()
+        .expect("components.schemas");
+    let v = Validator { schemas };
+    let mut errs = Vec::new();
+    v.check(
+        schemas
+            .get(schema)
+            .unwrap_or_else(|| panic!("no schema {schema}")),
+        value,
+        "$",
+        &mut errs,
+    );
+    errs
+}
+
+#[track_caller]
+fn assert_valid(doc: &serde_json::Value, schema: &str, value: &serde_json::Value) {
+    let errs = validate(doc, schema, value);
+    assert!(errs.is_empty(), "{value} against {schema}: {errs:?}");
+}
+
+/// The JSON after `-d '` in the README's identify example.
+fn readme_identify_example() -> serde_json::Value {
+    let readme = std::fs::read_to_string(Path::new(ROOT).join("README.md")).expect("README.md");
+    let at = readme
+        .find("/api/v1/identify -H")
+        .expect("the README has its identify example");
+    let body = readme[at..]
+        .split("-d '")
+        .nth(1)
+        .and_then(|r| r.split('\'').next())
+        .expect("the example has a -d '…' body");
+    serde_json::from_str(body).expect("the README's example body is JSON")
+}
+
+#[tokio::test]
+async fn the_readme_identify_example_and_its_answer_validate_against_the_description() {
+    // Arrange
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    let example = readme_identify_example();
+    // Act
+    let r = app.identify(&example.to_string()).await;
+    // Assert
+    assert_valid(&doc, "Observations", &example);
+    assert_eq!(r.status, StatusCode::OK);
+    assert_valid(&doc, "Identification", &r.json());
+    // A full set of observations, weighings included, validates too.
+    let full = serde_json::json!({
+        "cleavage": "one_perfect", "tenacity": "elastic", "hardness": {"min": 2.5, "max": 3},
+        "scratch": {"fingernail": false, "copper": true, "steel": true}, "scratches_glass": false,
+        "colour": ["silvery", "colourless"], "luster": "pearly", "habit": "books", "feel": "smooth",
+        "wet_behaviour": "unchanged", "streak": "white", "diaphaneity": "transparent",
+        "specific_gravity": {"dry_mass_g": 12.5, "submerged_mass_g": 8.1, "water_temp_c": 18},
+        "magnetic": false, "acid_reaction": null, "setting": "pegmatite"
+    });
+    assert_valid(&doc, "Observations", &full);
+    let r = app.identify(&full.to_string()).await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.text());
+    assert_valid(&doc, "Identification", &r.json());
+}
+
+#[tokio::test]
+async fn what_the_service_refuses_the_description_refuses_too() {
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    for bad in [
+        r#"{"cleavage":"perfect"}"#,
+        r#"{"lustre":"pearly"}"#,
+        r#"{"hardness":{"min":11}}"#,
+        r#"{"hardness":{}}"#,
+        r#"{"colour":[]}"#,
+        r#"{"specific_gravity":9.5}"#,
+        r#"{"scratch":{"knife":true}}"#,
+        r#"[]"#,
+    ] {
+        let value: serde_json::Value = serde_json::from_str(bad).expect("JSON");
+        assert!(
+            !validate(&doc, "Observations", &value).is_empty(),
+            "the description accepts {bad}"
+        );
+        let r = app.identify(bad).await;
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{bad}");
+        assert_valid(&doc, "ErrorBody", &r.json());
+    }
+    let r = app
+        .post_json("/api/v1/samples", r#"{"sample_code":"X-1","colour":"red"}"#)
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        !validate(
+            &doc,
+            "SampleInput",
+            &serde_json::json!({"sample_code": "X-1", "colour": "red"})
+        )
+        .is_empty()
+    );
+}
+
+#[tokio::test]
+async fn a_sample_body_and_every_sample_answer_validate_against_the_description() {
+    // Arrange: a sample with every field a client may send.
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    let body = serde_json::json!({
+        "project": "default",
+        "sample_code": "RV-0042",
+        "collected_on": "2026-07-14",
+        "collector": "Field party B",
+        "station": "Ridge cut 3",
+        "latitude": 46.512,
+        "longitude": 9.331,
+        "coordinate_uncertainty_m": 8.5,
+        "setting": "greenschist",
+        "lithology": "green phyllite",
+        "observations": readme_identify_example(),
+        "field_id": "chlorite",
+        "notes": "flakes on a joint face",
+        "edited_by": "logger 2"
+    });
+    assert_valid(&doc, "SampleInput", &body);
+    // Act / Assert: create, read, list, update, revisions, delete, restore.
+    let r = app.post_json("/api/v1/samples", &body.to_string()).await;
+    assert_eq!(r.status, StatusCode::CREATED, "{}", r.text());
+    let rec = r.json();
+    assert_valid(&doc, "SampleRecord", &rec);
+    let id = rec["id"].as_str().expect("an id").to_string();
+    let got = app.get(&format!("/api/v1/samples/{id}")).await.json();
+    assert_valid(&doc, "SampleRecord", &got);
+    assert_valid(&doc, "SamplePage", &app.get("/api/v1/samples").await.json());
+    // A fetched record sent back whole is a valid update body.
+    let mut back = got.clone();
+    back["notes"] = serde_json::json!("re-read under the lens");
+    assert_valid(&doc, "SampleInput", &back);
+    let r = app
+        .put_json(&format!("/api/v1/samples/{id}"), &back.to_string())
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.text());
+    assert_valid(&doc, "SampleRecord", &r.json());
+    let r = app
+        .put_json(&format!("/api/v1/samples/{id}"), &back.to_string())
+        .await;
+    assert_eq!(r.status, StatusCode::CONFLICT, "a stale edit");
+    assert_valid(&doc, "StaleBody", &r.json());
+    assert_valid(
+        &doc,
+        "RevisionList",
+        &app.get(&format!("/api/v1/samples/{id}/revisions"))
+            .await
+            .json(),
+    );
+    assert_valid(
+        &doc,
+        "SampleRecord",
+        &app.delete(&format!("/api/v1/samples/{id}")).await.json(),
+    );
+    let r = app
+        .post_json(&format!("/api/v1/samples/{id}/restore"), "")
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.text());
+    assert_valid(&doc, "SampleRecord", &r.json());
+    let projects = app.get("/api/v1/projects").await.json();
+    assert!(!projects["projects"].as_array().expect("a list").is_empty());
+    assert_valid(&doc, "ProjectList", &projects);
+    assert_valid(
+        &doc,
+        "MineralList",
+        &app.get("/api/v1/minerals").await.json(),
+    );
+    assert_valid(
+        &doc,
+        "MineralOne",
+        &app.get("/api/v1/minerals/talc").await.json(),
+    );
+    assert_valid(
+        &doc,
+        "ErrorBody",
+        &app.get("/api/v1/minerals/no_such").await.json(),
+    );
+}
