@@ -407,7 +407,7 @@ fn paths() -> Value {
                 "operationId": "deleteSample",
                 "summary": "Delete as a restorable tombstone.",
                 "parameters": [id_param("The record's UUID.")],
-                "responses": { "200": ok("The record, now deleted.", schema_ref("SampleRecord")), "404": no_sample, "409": error_response("Already deleted.") }
+                "responses": { "200": ok("The record, now deleted (unchanged when it already was).", schema_ref("SampleRecord")), "404": no_sample }
             }
         },
         "/api/v1/samples/{id}/revisions": {
@@ -423,7 +423,7 @@ fn paths() -> Value {
                 "operationId": "restoreSample",
                 "summary": "Bring a deleted record back.",
                 "parameters": [id_param("The record's UUID.")],
-                "responses": { "200": ok("The record, restored.", schema_ref("SampleRecord")), "404": no_sample, "409": error_response("The record is not deleted.") }
+                "responses": { "200": ok("The record, restored (unchanged when it was not deleted).", schema_ref("SampleRecord")), "404": no_sample }
             }
         },
         "/api/v1/projects": {
