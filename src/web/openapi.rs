@@ -294,7 +294,7 @@ fn paths() -> Value {
         query_param("project", "Only this project.", json!({ "type": "string" })),
         query_param(
             "field_id",
-            "Only samples identified as this entry.",
+            "Only samples identified as this entry; none for those not identified.",
             json!({ "type": "string" })
         ),
         query_param(
