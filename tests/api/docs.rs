@@ -831,3 +831,33 @@ async fn a_sample_body_and_every_sample_answer_validate_against_the_description(
         &app.get("/api/v1/minerals/no_such").await.json(),
     );
 }
+
+#[tokio::test]
+async fn every_reference_in_the_description_resolves() {
+    fn walk(
+        v: &serde_json::Value,
+        schemas: &serde_json::Map<String, serde_json::Value>,
+        refs: &mut usize,
+    ) {
+        match v {
+            serde_json::Value::Object(o) => {
+                if let Some(r) = o.get("$ref").and_then(|r| r.as_str()) {
+                    *refs += 1;
+                    let name = r
+                        .strip_prefix("#/components/schemas/")
+                        .unwrap_or_else(|| panic!("a reference outside the components: {r}"));
+                    assert!(schemas.contains_key(name), "$ref {r} names no schema");
+                }
+                o.values().for_each(|x| walk(x, schemas, refs));
+            }
+            serde_json::Value::Array(a) => a.iter().for_each(|x| walk(x, schemas, refs)),
+            _ => {}
+        }
+    }
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    let schemas = doc["components"]["schemas"].as_object().expect("schemas");
+    let mut refs = 0;
+    walk(&doc, schemas, &mut refs);
+    assert!(refs > 20, "only {refs} references");
+}
