@@ -11,6 +11,7 @@ pub mod forms;
 pub mod host;
 pub mod limits;
 pub mod log_admin;
+pub mod openapi;
 pub mod pages;
 pub mod reference;
 pub mod samples_api;
@@ -59,6 +60,7 @@ pub fn app(state: AppState) -> Router {
         .merge(samples_api::router())
         .merge(samples_pages::router())
         .merge(log_admin::router())
+        .merge(openapi::router())
         .fallback(pages::not_found);
     with_edge(routes, state)
 }

@@ -15,9 +15,19 @@
 //!
 //! It also saves screenshots to `target/screenshots/` for a person to look at.
 //!
+//! - every page a person reaches (home, `/identify`, a question, results,
+//!   the mineral list and a mineral, the sample log, the new-sample form, a
+//!   record, projects, import) has no axe-core accessibility violation;
+//! - the sample log's CSV and GeoJSON links download through the browser's
+//!   session as a browser would (gzip accepted) and parse.
+//!
 //! It needs Debian's `chromium` and `chromium-driver` packages
-//! (`/usr/bin/chromium`, `/usr/bin/chromedriver`); without them it fails
-//! rather than passing silently.
+//! (`/usr/bin/chromium`, `/usr/bin/chromedriver`) and axe-core from the npm
+//! registry (`.ci/test` installs both; the script path is `BASAL_AXE_JS`,
+//! by default `target/axe/node_modules/axe-core/axe.min.js`). Under plain
+//! `cargo test`, without them, it prints a `skipped:` line naming
+//! `.ci/test` and passes; with `BASAL_REQUIRE_BROWSER=1` (set by
+//! `.ci/test`, so CI never skips silently) it fails.
 
 use std::path::{Path, PathBuf};
 use std::process::Stdio;
@@ -95,6 +105,9 @@ fn answer_for(question: &str) -> Vec<Act> {
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn a_chlorite_is_identified_by_filling_in_the_real_forms() {
     let started = Instant::now();
+    let Some(axe) = browser_prerequisites() else {
+        return;
+    };
     let shots = screenshot_dir();
 
     let server = Server::start().await;
@@ -110,6 +123,7 @@ async fn a_chlorite_is_identified_by_filling_in_the_real_forms() {
         browser.client.clone(),
         server.base.clone(),
         shots.clone(),
+        axe,
     ));
     let outcome = scenario.await;
 
@@ -126,10 +140,12 @@ async fn a_chlorite_is_identified_by_filling_in_the_real_forms() {
 }
 
 /// The user's side: everything done through the browser.
-async fn scenario(c: Client, base: String, shots: PathBuf) {
+async fn scenario(c: Client, base: String, shots: PathBuf, axe: String) {
     walk_a_specimen_to_its_results(&c, &base, &shots).await;
     check_the_results_page(&c, &shots).await;
     a_refused_answer_keeps_what_was_typed(&c, &base, &shots).await;
+    every_page_passes_axe(&c, &base, &axe).await;
+    the_exports_download_and_parse(&c, &base).await;
 }
 
 /// Step 2: from `/identify`, answer whatever is asked until the flow
@@ -273,6 +289,291 @@ async fn a_refused_answer_keeps_what_was_typed(c: &Client, base: &str, shots: &P
         "the input lost what was typed"
     );
     screenshot(c, shots, "4-refusal").await;
+}
+
+// ---------------------------------------------------------------------------
+// Prerequisites: skip under plain `cargo test`, fail under `.ci/test`
+
+/// Where `.ci/test` installs axe-core (pinned there).
+fn axe_path() -> PathBuf {
+    std::env::var_os("BASAL_AXE_JS").map_or_else(
+        || {
+            Path::new(env!("CARGO_MANIFEST_DIR"))
+                .join("target/axe/node_modules/axe-core/axe.min.js")
+        },
+        PathBuf::from,
+    )
+}
+
+/// The axe-core source when everything the test needs is there. Otherwise
+/// `None` after a `skipped:` line, or a panic when
+/// `BASAL_REQUIRE_BROWSER=1` says this run must not skip.
+fn browser_prerequisites() -> Option<String> {
+    let axe = axe_path();
+    let mut missing = Vec::new();
+    for (path, package) in [(CHROMIUM, "chromium"), (CHROMEDRIVER, "chromium-driver")] {
+        if !Path::new(path).exists() {
+            missing.push(format!("{path} (Debian package {package})"));
+        }
+    }
+    let source = match std::fs::read_to_string(&axe) {
+        Ok(s) if !s.is_empty() => Some(s),
+        _ => {
+            missing.push(format!("{} (axe-core from npm)", axe.display()));
+            None
+        }
+    };
+    if missing.is_empty() {
+        return source;
+    }
+    let what = missing.join(", ");
+    if std::env::var("BASAL_REQUIRE_BROWSER").is_ok_and(|v| v == "1") {
+        panic!(
+            "BASAL_REQUIRE_BROWSER=1 and the browser test cannot run: missing {what}; {INSTALL_HINT}, or run bash .ci/test"
+        );
+    }
+    // Straight to stderr, not through `eprintln!`: the test harness
+    // captures the print macros of a passing test, and this line must be
+    // seen.
+    let line = format!(
+        "skipped: tests/browser.rs (the browser walk and the axe-core audit): missing {what}; run bash .ci/test\n"
+    );
+    let _ = std::io::Write::write_all(&mut std::io::stderr(), line.as_bytes());
+    None
+}
+
+// ---------------------------------------------------------------------------
+// Accessibility: axe-core on every page
+
+/// Step 5: every page a person reaches, audited by axe-core in the test
+/// browser. The script is injected over WebDriver (Chromium runs it
+/// whatever the page's `script-src 'none'` says); the service never serves
+/// it.
+async fn every_page_passes_axe(c: &Client, base: &str, axe: &str) {
+    let mut failures = Vec::new();
+    let mut audited = Vec::new();
+    let mut audit_here = async |c: &Client, label: &str| {
+        let found = axe_violations(c, axe).await;
+        audited.push(format!("{label} ({})", current_path(c).await));
+        if !found.is_empty() {
+            failures.push(format!(
+                "{label} at {}:\n{}",
+                current_path(c).await,
+                found.join("\n")
+            ));
+        }
+    };
+
+    goto(c, &format!("{base}/")).await;
+    audit_here(c, "home").await;
+
+    goto(c, &format!("{base}/identify")).await;
+    audit_here(c, "/identify").await;
+    if c.find(Locator::Css(r#"input[type="hidden"][name="question"]"#))
+        .await
+        .is_err()
+    {
+        // A start page: its first button begins the questions.
+        click_and_wait_for_next_page(c, "main form button[type=submit]").await;
+    }
+    let _ = current_question(c).await;
+    audit_here(c, "a question page").await;
+    click_and_wait_for_next_page(c, r#"button[name="then"][value="results"]"#).await;
+    assert!(
+        on_results(c).await,
+        "expected results, got {}",
+        current_path(c).await
+    );
+    audit_here(c, "results").await;
+
+    goto(c, &format!("{base}/minerals")).await;
+    audit_here(c, "/minerals").await;
+    goto(c, &format!("{base}/minerals/chlorite")).await;
+    audit_here(c, "a mineral page").await;
+
+    goto(c, &format!("{base}/samples/new")).await;
+    audit_here(c, "the new-sample form").await;
+    // An invented sample code, to reach a record page.
+    let code = c
+        .find(Locator::Css(r#"input[name="sample_code"]"#))
+        .await
+        .expect("the new-sample form has a sample code input");
+    code.clear()
+        .await
+        .expect("the suggested code can be cleared");
+    code.send_keys("AXE-0001")
+        .await
+        .expect("a sample code can be typed");
+    click_and_wait_for_next_page(c, "form.sample-form .actions button[type=submit]").await;
+    assert!(
+        c.find(Locator::Css("[data-sample-id]")).await.is_ok(),
+        "saving the new sample did not lead to its record page: {}",
+        page_text(c).await
+    );
+    audit_here(c, "a record page").await;
+
+    goto(c, &format!("{base}/samples")).await;
+    audit_here(c, "/samples").await;
+    goto(c, &format!("{base}/projects")).await;
+    audit_here(c, "/projects").await;
+    goto(c, &format!("{base}/samples/import")).await;
+    audit_here(c, "/samples/import").await;
+
+    println!(
+        "axe-core audited {} pages: {}",
+        audited.len(),
+        audited.join(", ")
+    );
+    assert!(
+        failures.is_empty(),
+        "axe-core found accessibility violations:\n{}",
+        failures.join("\n")
+    );
+}
+
+/// Injects axe-core into the current page, runs it, and returns one line
+/// per violating node: rule id, impact, the node's selector and its HTML.
+async fn axe_violations(c: &Client, axe: &str) -> Vec<String> {
+    c.execute(axe, Vec::new())
+        .await
+        .expect("axe-core can be injected through WebDriver");
+    let result = c
+        .execute_async(
+            r#"const done = arguments[arguments.length - 1];
+               axe.run(document, { resultTypes: ["violations"] })
+                 .then(r => done(JSON.stringify(r.violations)))
+                 .catch(e => done(JSON.stringify({ error: String(e) })));"#,
+            Vec::new(),
+        )
+        .await
+        .expect("axe-core runs in the page");
+    let raw = result.as_str().expect("axe-core answers a JSON string");
+    let parsed: serde_json::Value = serde_json::from_str(raw).expect("axe-core's answer is JSON");
+    if let Some(e) = parsed.get("error") {
+        panic!("axe-core failed on {}: {e}", current_path(c).await);
+    }
+    let mut lines = Vec::new();
+    for v in parsed.as_array().expect("a list of violations") {
+        let id = v["id"].as_str().unwrap_or("?");
+        let impact = v["impact"].as_str().unwrap_or("?");
+        let help = v["help"].as_str().unwrap_or("");
+        for node in v["nodes"].as_array().map(Vec::as_slice).unwrap_or_default() {
+            lines.push(format!(
+                "  {id} [{impact}] {help}: {} {}",
+                node["target"],
+                node["html"].as_str().unwrap_or("")
+            ));
+        }
+    }
+    lines
+}
+
+async fn goto(c: &Client, url: &str) {
+    c.goto(url)
+        .await
+        .unwrap_or_else(|e| panic!("the browser opens {url}: {e}"));
+}
+
+// ---------------------------------------------------------------------------
+// Exports through the browser's session
+
+/// Step 6: the sample log's CSV and GeoJSON links, fetched with the
+/// browser's cookies and `Accept-Encoding: gzip` as a browser sends them;
+/// each body is decoded as the browser would and must parse.
+async fn the_exports_download_and_parse(c: &Client, base: &str) {
+    goto(c, &format!("{base}/samples")).await;
+    let cookies: Vec<String> = c
+        .get_all_cookies()
+        .await
+        .expect("the browser's cookies can be read")
+        .iter()
+        .map(|k| format!("{}={}", k.name(), k.value()))
+        .collect();
+    for (label, css) in [
+        ("CSV", r#"p.exports a[href^="/export/samples.csv"]"#),
+        ("GeoJSON", r#"p.exports a[href^="/export/samples.geojson"]"#),
+    ] {
+        let href = c
+            .find(Locator::Css(css))
+            .await
+            .unwrap_or_else(|e| panic!("the sample log has a {label} export link ({css}): {e}"))
+            .attr("href")
+            .await
+            .expect("the link's href can be read")
+            .expect("the export link has an href");
+        let body = fetch_as_browser(&format!("{base}{href}"), &cookies).await;
+        assert!(!body.is_empty(), "the {label} export is empty");
+        match label {
+            "CSV" => {
+                let mut reader = csv::Reader::from_reader(body.as_slice());
+                let header = reader.headers().expect("the CSV has a header row").clone();
+                assert!(
+                    header.iter().any(|h| h == "sample_code"),
+                    "the CSV header lacks sample_code: {header:?}"
+                );
+                let rows: Vec<csv::StringRecord> = reader
+                    .records()
+                    .collect::<Result<_, _>>()
+                    .expect("every CSV row parses");
+                assert!(
+                    rows.iter().any(|r| r.iter().any(|f| f == "AXE-0001")),
+                    "the CSV lacks the sample saved in the browser"
+                );
+            }
+            _ => {
+                let doc: serde_json::Value =
+                    serde_json::from_slice(&body).expect("the GeoJSON export is JSON");
+                assert_eq!(doc["type"], "FeatureCollection", "GeoJSON: {doc}");
+                assert!(
+                    doc["features"].is_array(),
+                    "GeoJSON without features: {doc}"
+                );
+            }
+        }
+        println!("{label} export: {} bytes decoded, parses", body.len());
+    }
+}
+
+/// GET `url` over a plain HTTP client the way the browser asks for a
+/// download (its cookies, `Accept-Encoding: gzip`), decoding gzip.
+async fn fetch_as_browser(url: &str, cookies: &[String]) -> Vec<u8> {
+    use http_body_util::BodyExt;
+    use std::io::Read;
+    let client: hyper_util::client::legacy::Client<_, http_body_util::Empty<axum::body::Bytes>> =
+        hyper_util::client::legacy::Client::builder(hyper_util::rt::TokioExecutor::new())
+            .build(HttpConnector::new());
+    let mut req = axum::http::Request::get(url)
+        .header("accept-encoding", "gzip, deflate")
+        .header("accept", "*/*");
+    if !cookies.is_empty() {
+        req = req.header("cookie", cookies.join("; "));
+    }
+    let res = client
+        .request(
+            req.body(http_body_util::Empty::new())
+                .expect("a valid request"),
+        )
+        .await
+        .unwrap_or_else(|e| panic!("GET {url}: {e}"));
+    assert!(res.status().is_success(), "GET {url}: {}", res.status());
+    let gzip = res
+        .headers()
+        .get("content-encoding")
+        .is_some_and(|v| v.as_bytes().eq_ignore_ascii_case(b"gzip"));
+    let raw = res
+        .into_body()
+        .collect()
+        .await
+        .unwrap_or_else(|e| panic!("reading the body of {url}: {e}"))
+        .to_bytes();
+    if !gzip {
+        return raw.to_vec();
+    }
+    let mut out = Vec::new();
+    flate2::read::GzDecoder::new(raw.as_ref())
+        .read_to_end(&mut out)
+        .unwrap_or_else(|e| panic!("the gzip body of {url} does not decode: {e}"));
+    out
 }
 
 // ---------------------------------------------------------------------------

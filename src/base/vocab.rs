@@ -1,5 +1,5 @@
-//! The observation vocabulary of the contract (`identify-api.md`), one Rust
-//! enum per contract enum.
+//! The observation vocabulary (documented for users in `docs/api.md`), one
+//! Rust enum per enum of the API.
 //!
 //! Serde names are the contract's values, so the same words run through the
 //! JSON API, the HTML forms, the database and the exports. Display text for
@@ -356,7 +356,8 @@ mod tests {
 
     #[test]
     fn vocabulary_sizes_match_the_contract() {
-        // Counts of values listed in identify-api.md.
+        // Counts of values listed in docs/api.md (tests/api/docs.rs checks
+        // that every value is there).
         assert_eq!(Cleavage::ALL.len(), 4);
         assert_eq!(Tenacity::ALL.len(), 4);
         assert_eq!(Colour::ALL.len(), 19);

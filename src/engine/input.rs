@@ -264,7 +264,7 @@ pub fn describe_observation_field(shape: &str) -> String {
         "specific_gravity.submerged_mass_g" => "the mass fully under water in grams, greater than 0 and less than the dry mass".to_string(),
         "specific_gravity.balance_resolution_g" => "the balance readability in grams, greater than 0 and at most 1".to_string(),
         "specific_gravity.water_temp_c" => "the water temperature in °C, from 0 to 40".to_string(),
-        _ => "a field of the identify request (see the API contract)".to_string(),
+        _ => "a field of the identify request (see docs/api.md or GET /api/v1/openapi.json)".to_string(),
     }
 }
 

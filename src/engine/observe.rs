@@ -13,7 +13,7 @@ use crate::base::vocab::{
 };
 
 /// One field that is not allowed, with plain words saying what is.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, utoipa::ToSchema)]
 pub struct FieldError {
     /// Dotted JSON path (`hardness.min`, `colour[1]`), or `""` for the whole body.
     pub field: String,

@@ -11,11 +11,13 @@ use super::Property;
 use crate::base::vocab::Group;
 
 /// One base entry with its probability and reasons.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Candidate {
     /// Entry id (shared with the engine, not copied).
+    #[schema(value_type = String)]
     pub id: Arc<str>,
     /// Entry name.
+    #[schema(value_type = String)]
     pub name: Arc<str>,
     /// Posterior probability.
     pub probability: f64,
@@ -34,7 +36,7 @@ pub struct Candidate {
 }
 
 /// The weight of one observation for one candidate.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Evidence {
     /// The observed property.
     pub property: Property,
@@ -43,7 +45,7 @@ pub struct Evidence {
 }
 
 /// Probability summed over a group.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct GroupProbability {
     /// Group id.
     pub id: Group,
@@ -52,7 +54,7 @@ pub struct GroupProbability {
 }
 
 /// An unanswered observation ranked by what it would tell.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Question {
     /// The contract field to observe.
     pub property: Property,
@@ -63,7 +65,9 @@ pub struct Question {
 }
 
 /// Caution codes of the contract.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
+#[derive(
+    Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize, utoipa::ToSchema,
+)]
 #[serde(rename_all = "snake_case")]
 pub enum CautionCode {
     /// Asbestiform minerals.
@@ -75,7 +79,7 @@ pub enum CautionCode {
 }
 
 /// A hazard warning.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Caution {
     /// Contract code.
     pub code: CautionCode,
@@ -84,7 +88,7 @@ pub struct Caution {
 }
 
 /// What one outcome of the separating test would mean.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Outcome {
     /// The answer, as the contract value (`"brittle"`, `"below 2.5"`).
     pub answer: String,
@@ -95,7 +99,7 @@ pub struct Outcome {
 }
 
 /// The single test that best separates the two leading candidates.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct SeparatingTest {
     /// Leading candidate id.
     pub first: String,
@@ -112,11 +116,12 @@ pub struct SeparatingTest {
 }
 
 /// Quantities the engine derived from the raw observations.
-#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Derived {
     /// The Mohs interval scored, from hardness, scratch tests and glass
     /// (`null` bounds are open).
     #[serde(skip_serializing_if = "Option::is_none")]
+    #[schema(value_type = Option<Vec<Option<f64>>>)]
     pub hardness: Option<[Option<f64>; 2]>,
     /// Specific gravity scored and its standard uncertainty.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -124,7 +129,7 @@ pub struct Derived {
 }
 
 /// A specific gravity and its uncertainty.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct SgDerived {
     /// Value.
     pub value: f64,
@@ -133,7 +138,7 @@ pub struct SgDerived {
 }
 
 /// The identify response.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Identification {
     /// Every base entry, most probable first.
     pub candidates: Vec<Candidate>,

@@ -20,7 +20,7 @@ use crate::samples::ValidSample;
 /// `I` is the identification: the identify response for a whole record,
 /// `()` (JSON null) for the other fields of a revision document whose
 /// snapshot is stored apart.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct SampleRecord<I = Identification> {
     /// UUID, never changes.
     pub id: String,
@@ -341,7 +341,7 @@ fn classify(e: sqlx::Error, v: &ValidSample) -> WriteError {
 }
 
 /// What a revision records.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, utoipa::ToSchema)]
 #[serde(rename_all = "snake_case")]
 pub enum Action {
     /// First state.
@@ -369,7 +369,7 @@ impl Action {
 }
 
 /// One earlier (or the current) state of a record.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Revision {
     /// Revision number.
     pub revision: i64,
@@ -1261,7 +1261,7 @@ pub async fn list_as<I: serde::de::DeserializeOwned>(
 }
 
 /// A project.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, sqlx::FromRow)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, sqlx::FromRow, utoipa::ToSchema)]
 pub struct Project {
     /// Short code.
     pub code: String,

@@ -95,7 +95,10 @@ pub async fn not_found(State(st): State<AppState>, uri: Uri) -> Response {
     if uri.path().starts_with("/api/") {
         return ApiError::NotFound(FieldError::new(
             "",
-            format!("no API endpoint at {}; see the API contract", uri.path()),
+            format!(
+                "no API endpoint at {}; see docs/api.md or GET /api/v1/openapi.json",
+                uri.path()
+            ),
         ))
         .into_response();
     }

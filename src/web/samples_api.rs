@@ -67,7 +67,7 @@ pub fn describe_sample_field(shape: &str) -> String {
         "setting" => format!("one of {}", Setting::allowed()),
         "observations" => describe_observation_field(""),
         "revision" => "the whole number of the revision you started from".to_string(),
-        _ => "a field of the sample record (see the API contract)".to_string(),
+        _ => "a field of the sample record (see docs/api.md or GET /api/v1/openapi.json)".to_string(),
     }
 }
 

@@ -1,6 +1,7 @@
 //! Router tests of the JSON API, every error case of the contract included.
 //! One binary; `helpers` builds a fresh migrated SQLite per test.
 
+mod docs;
 mod edge;
 mod flow_pages;
 mod helpers;
