@@ -73,7 +73,10 @@ fn the_muscovite_specimen_and_entry_agree_with_the_sheet() {
 
 /// Classic specimens, each described from its HoM data sheet (hardness,
 /// density, colour, luster, tenacity, cleavage, streak, occurrence) plus
-/// field readings of common practice.
+/// field readings of common practice. Muscovite's figures are the shared
+/// `handbook::MUSCOVITE`; the other sheets' figures in the comments are as
+/// the author of these cases quoted them and were not seen again for this
+/// revision (the base marks several of those SG ranges from memory).
 fn classics() -> Vec<(&'static str, Value)> {
     vec![
         // HoM muscovite (figures in `handbook::MUSCOVITE`, read once): laminae
@@ -208,6 +211,8 @@ fn a_single_wrong_observation_does_not_push_the_right_answer_out_of_the_top_thre
             }
         }
     }
+    // A floor of our own on the size of the perturbation set (not a domain
+    // value): the classics' fields times their vocabularies give ~330.
     assert!(tried > 300, "the perturbation set is too small ({tried})");
     assert!(
         failures.is_empty(),
@@ -224,6 +229,8 @@ fn a_specimen_that_contradicts_every_entry_goes_outside_the_base() {
         "luster": "vitreous", "colour": ["colourless"], "habit": "crystals", "specific_gravity": 2.65,
         "streak": "white", "diaphaneity": "transparent"}),
     );
+    // "Wins" (above one half) is the design's claim for a specimen that
+    // conflicts with every entry (DESIGN.md, the engine).
     assert!(quartz.outside_base > 0.5, "outside {}", quartz.outside_base);
     // Galena-like: heavy, cubic cleavage, metallic (HoM galena: D 7.58, H 2.5).
     let galena = identify(
@@ -231,7 +238,8 @@ fn a_specimen_that_contradicts_every_entry_goes_outside_the_base() {
         "specific_gravity": 7.5, "streak": "grey", "habit": "crystals", "tenacity": "brittle"}),
     );
     assert!(galena.outside_base > 0.5, "outside {}", galena.outside_base);
-    // A plain muscovite keeps it small.
+    // A plain muscovite keeps it small: under 5 %, a judgement of ours of
+    // what "small" must mean for a textbook specimen.
     let mica = identify(classics()[0].1.clone());
     assert!(mica.outside_base < 0.05, "outside {}", mica.outside_base);
 }
@@ -241,6 +249,7 @@ fn probabilities_sum_to_one_and_groups_match() {
     for (_, obs) in classics() {
         let id = identify(obs);
         let total: f64 = id.candidates.iter().map(|c| c.probability).sum::<f64>() + id.outside_base;
+        // Unrounded engine output: only floating-point slack.
         assert!((total - 1.0).abs() < 1e-9, "{total}");
         let groups: f64 = id.groups.iter().map(|g| g.probability).sum();
         assert!((groups + id.outside_base - 1.0).abs() < 1e-9);
@@ -569,6 +578,7 @@ fn answered_properties_are_not_asked_again_and_a_full_record_leaves_nothing_to_a
 #[test]
 fn every_question_says_how_to_do_the_test() {
     for q in identify(json!({})).next_questions {
+        // Our own floor: a how-to of a sentence or more (not a domain value).
         assert!(q.how.len() > 60, "{:?}", q.property);
     }
 }
@@ -596,6 +606,8 @@ fn a_clay_raises_the_dust_caution() {
         json!({"habit": "earthy", "wet_behaviour": "plastic", "colour": ["white"], "feel": "smooth",
         "setting": "weathering_profile"}),
     );
+    // A white, earthy, smooth clay that turns plastic when wet, in a
+    // weathering profile, is logged as kaolinite (common practice).
     assert_eq!(
         &*id.candidates[0].id,
         "kaolinite",
