@@ -490,7 +490,9 @@ mod tests {
             }
             if line.starts_with("specific_gravity = [") {
                 let id = id.unwrap_or_else(|| panic!("a range before any id: {line}"));
-                let entry = base.entry(id).unwrap_or_else(|| panic!("{id} is not an entry"));
+                let entry = base
+                    .entry(id)
+                    .unwrap_or_else(|| panic!("{id} is not an entry"));
                 let key = entry.sources.get("specific_gravity").map(String::as_str);
                 match key {
                     Some("memory") => assert!(

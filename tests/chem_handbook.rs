@@ -485,7 +485,10 @@ fn base_entries_match_the_handbook_ideal_columns() {
         let theirs = Formula::parse(sheet.formula)
             .unwrap_or_else(|e| panic!("{label}: {} does not parse: {e}", sheet.formula));
         if !same_composition(&ours, &theirs) {
-            failures.push(format!("{label}: our ideal formula is not {}", sheet.formula));
+            failures.push(format!(
+                "{label}: our ideal formula is not {}",
+                sheet.formula
+            ));
             continue;
         }
         match ours.oxide_weight_percent() {
@@ -589,7 +592,10 @@ fn every_base_entry_matches_the_composition_molmass_computes() {
     let mut theirs: Vec<&str> = fixture.entries.iter().map(|e| e.entry.as_str()).collect();
     ours.sort_unstable();
     theirs.sort_unstable();
-    assert_eq!(ours, theirs, "regenerate tests/data/reference_compositions.json");
+    assert_eq!(
+        ours, theirs,
+        "regenerate tests/data/reference_compositions.json"
+    );
 
     for reference in &fixture.entries {
         let id = reference.entry.as_str();

@@ -406,9 +406,7 @@ mod reference {
             Property::Luster => categorical::<Luster>(base, p, |e| &e.luster),
             Property::Habit => categorical::<Habit>(base, p, |e| &e.habit),
             Property::Feel => categorical::<Feel>(base, p, |e| &e.feel),
-            Property::WetBehaviour => {
-                categorical::<WetBehaviour>(base, p, |e| &e.wet_behaviour)
-            }
+            Property::WetBehaviour => categorical::<WetBehaviour>(base, p, |e| &e.wet_behaviour),
             Property::Streak => categorical::<Streak>(base, p, |e| &e.streak),
             Property::Diaphaneity => categorical::<Diaphaneity>(base, p, |e| &e.diaphaneity),
             Property::Setting => categorical::<Setting>(base, p, |e| &e.setting),
@@ -494,7 +492,11 @@ fn the_stated_gain_of_every_question_matches_an_independent_recomputation() {
     // same observations from the second and third fields.
     let starts: [(Value, Vec<(Property, &str)>, Option<f64>); 4] = [
         (json!({}), vec![], None),
-        (json!({"colour": ["green"]}), vec![(Property::Colour, "green")], None),
+        (
+            json!({"colour": ["green"]}),
+            vec![(Property::Colour, "green")],
+            None,
+        ),
         (
             json!({"cleavage": "one_perfect", "setting": "schist_gneiss"}),
             vec![

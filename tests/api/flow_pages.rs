@@ -115,7 +115,11 @@ async fn a_specimen_walks_from_questions_to_ranked_results() {
             .iter()
             .find(|c| &*c.id == id)
             .unwrap_or_else(|| panic!("{id} is not a candidate"));
-        assert!((c.probability - p).abs() <= 5e-5, "{id}: page {p}, engine {}", c.probability);
+        assert!(
+            (c.probability - p).abs() <= 5e-5,
+            "{id}: page {p}, engine {}",
+            c.probability
+        );
     }
     let total: f64 = m.iter().map(|(_, p)| p).sum::<f64>() + engine.outside_base;
     assert!((total - 1.0).abs() <= 0.001, "{total}");
@@ -189,7 +193,10 @@ async fn a_bad_value_comes_back_with_the_typed_value_and_a_message_and_saves_not
         let html = r.text();
         assert!(html.contains("class=\"field-error\""), "{fields}");
         assert!(html.contains(message), "{fields}: {message}");
-        assert!(!kept.is_empty() && html.contains(kept), "{fields}: value not kept");
+        assert!(
+            !kept.is_empty() && html.contains(kept),
+            "{fields}: value not kept"
+        );
     }
     // The earlier answer is intact.
     let results = s.get(&format!("{url}/results")).await.text();
