@@ -485,12 +485,15 @@ mod reference {
     }
 }
 
+/// A request, its categorical answers and its SG, for the reference.
+type Start = (Value, Vec<(Property, &'static str)>, Option<f64>);
+
 #[test]
 fn the_stated_gain_of_every_question_matches_an_independent_recomputation() {
     let base = basal::base::builtin();
     // (request, its categorical answers, its SG) — the reference reads the
     // same observations from the second and third fields.
-    let starts: [(Value, Vec<(Property, &str)>, Option<f64>); 4] = [
+    let starts: [Start; 4] = [
         (json!({}), vec![], None),
         (
             json!({"colour": ["green"]}),
