@@ -474,6 +474,44 @@ mod tests {
         }
     }
 
+    /// Every specific-gravity range states, in the comment line above it,
+    /// the measured density the handbook sheet prints (`# SG: HoM … D(meas.)
+    /// …`) or that it is from memory and why (`# SG from memory: …`), and the
+    /// comment agrees with the entry's source key for the range.
+    #[test]
+    fn every_sg_range_names_its_printed_figure_or_says_from_memory() {
+        let base = builtin();
+        let mut id: Option<&str> = None;
+        let mut previous = "";
+        let mut checked = 0;
+        for line in BASE_TOML.lines() {
+            if let Some(rest) = line.strip_prefix("id = \"") {
+                id = rest.strip_suffix('"');
+            }
+            if line.starts_with("specific_gravity = [") {
+                let id = id.unwrap_or_else(|| panic!("a range before any id: {line}"));
+                let entry = base
+                    .entry(id)
+                    .unwrap_or_else(|| panic!("{id} is not an entry"));
+                let key = entry.sources.get("specific_gravity").map(String::as_str);
+                match key {
+                    Some("memory") => assert!(
+                        previous.starts_with("# SG from memory: ") && previous.len() > 40,
+                        "{id}: SG from memory without saying so and why: {previous:?}"
+                    ),
+                    Some("hom" | "hom_transcribed") => assert!(
+                        previous.starts_with("# SG: HoM ") && previous.contains("D(meas.)"),
+                        "{id}: SG cites the handbook without the printed figure: {previous:?}"
+                    ),
+                    other => panic!("{id}: SG source {other:?} is neither the handbook nor memory"),
+                }
+                checked += 1;
+            }
+            previous = line;
+        }
+        assert_eq!(checked, base.entries.len(), "one SG range per entry");
+    }
+
     #[test]
     fn series_and_group_field_names_say_so() {
         let base = builtin();

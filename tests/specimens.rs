@@ -3,6 +3,8 @@
 //! scored by the engine. This is how we measure ourselves.
 //!
 //! Run `cargo test --test specimens -- --nocapture` for the per-case table.
+//! Source keys of each case are defined in the file's `sources`: the
+//! Handbook of Mineralogy, common practice, or from memory.
 
 use basal::engine::Engine;
 use basal::engine::input::observations_from_json;
@@ -10,6 +12,7 @@ use serde::Deserialize;
 
 #[derive(Deserialize)]
 struct Suite {
+    sources: std::collections::BTreeMap<String, String>,
     cases: Vec<Case>,
 }
 
@@ -21,6 +24,15 @@ struct Case {
     expect: Option<String>,
     #[serde(default)]
     also_acceptable: Vec<String>,
+    /// Source keys joined by `+` ("hom+practice"), each a key of `sources`.
+    source: String,
+}
+
+/// The "outside the base" answer, as the suite writes an absent `expect`.
+const OUTSIDE: &str = "(outside)";
+
+fn suite() -> Suite {
+    serde_json::from_str(include_str!("data/specimens.json")).expect("suite parses")
 }
 
 struct Scored {
@@ -41,15 +53,14 @@ fn score(engine: &Engine, case: &Case) -> (Scored, String) {
         .collect();
     ranked.push(("(outside)".to_string(), id.outside_base));
     ranked.sort_by(|a, b| b.1.total_cmp(&a.1));
-    let want = case
-        .expect
-        .clone()
-        .unwrap_or_else(|| "(outside)".to_string());
+    let want = case.expect.as_deref().unwrap_or(OUTSIDE);
+    // Every entry and the outside entry are ranked, so an expected id that
+    // is not found names no entry: a broken case, not a miss.
     let rank = ranked
         .iter()
-        .position(|(i, _)| *i == want)
-        .unwrap_or(usize::MAX)
-        + 1;
+        .position(|(i, _)| i == want)
+        .map(|i| i + 1)
+        .unwrap_or_else(|| panic!("{}: expected {want} is not ranked", case.name));
     let lenient_first = rank == 1 || case.also_acceptable.contains(&ranked[0].0);
     let top: Vec<String> = ranked
         .iter()
@@ -67,8 +78,7 @@ fn score(engine: &Engine, case: &Case) -> (Scored, String) {
 
 #[test]
 fn the_engine_names_handbook_specimens() {
-    let suite: Suite =
-        serde_json::from_str(include_str!("data/specimens.json")).expect("suite parses");
+    let suite = suite();
     let engine = Engine::builtin();
     let mut first = 0;
     let mut lenient = 0;
@@ -122,4 +132,25 @@ fn the_engine_names_handbook_specimens() {
         t >= 0.95,
         "right entry in the top three in {t:.3} of cases, want at least 0.95"
     );
+}
+
+#[test]
+fn every_case_names_entries_of_the_base_and_sources_of_the_suite() {
+    let suite = suite();
+    let base = Engine::builtin().base();
+    let mut problems = Vec::new();
+    for case in &suite.cases {
+        let named = case.expect.iter().chain(&case.also_acceptable);
+        for id in named {
+            if base.entry(id).is_none() {
+                problems.push(format!("{}: {id} is not an entry of the base", case.name));
+            }
+        }
+        for key in case.source.split('+') {
+            if !suite.sources.contains_key(key) {
+                problems.push(format!("{}: source {key:?} is not defined", case.name));
+            }
+        }
+    }
+    assert!(problems.is_empty(), "{}", problems.join("\n"));
 }

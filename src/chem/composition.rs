@@ -301,9 +301,10 @@ mod tests {
 
     #[test]
     fn molar_masses_match_published_values() {
-        // Webmineral "Molecular Weight" lines (webmineral.com data pages for
-        // talc, gypsum, pyrophyllite, gibbsite, hematite, paragonite); they
-        // use older atomic weights (e.g. O 15.9994), hence 0.02 g/mol slack.
+        // Molar masses computed by the molmass library, 2026.1.8 (PyPI),
+        // `molmass.Formula(f).mass`, rounded to 0.01 g/mol: 379.266, 172.171,
+        // 360.314, 78.004, 159.688, 382.200. Its atomic weights lie inside
+        // the same CIAAW intervals as ours (O 15.999405), hence 0.02 g/mol slack.
         let published = [
             ("Mg3Si4O10(OH)2", 379.27),
             ("CaSO4·2H2O", 172.17),
@@ -325,7 +326,7 @@ mod tests {
             assert!(close(total, 1.0, 1e-12), "{s}");
         }
         let molybdenite = parse("MoS2").weight_fractions();
-        // Mo 59.94 %, S 40.06 % (webmineral.com molybdenite composition, from memory).
+        // Mo 59.94 %, S 40.06 % (molmass 2026.1.8: Mo 59.939 %, S 40.061 %).
         assert!(close(molybdenite[0].1 * 100.0, 59.94, 0.01));
         assert!(close(molybdenite[1].1 * 100.0, 40.06, 0.01));
         assert_eq!(parse("C").weight_fractions(), vec![(Element::C, 1.0)]);
@@ -333,8 +334,8 @@ mod tests {
 
     #[test]
     fn bound_water() {
-        // Brucite Mg(OH)2: H2O 30.89 wt % (composition table on the
-        // nationalgemlab.in brucite page, webmineral style).
+        // Brucite Mg(OH)2: H2O 30.89 wt % (molmass 2026.1.8: H2O/Mg(OH)2 =
+        // 30.891 %; tests/data/reference_compositions.json).
         assert!(close(
             parse("Mg(OH)2").bound_water_wt_percent(),
             30.89,
@@ -424,7 +425,8 @@ mod tests {
         // Sulfate and carbonate.
         assert!(oxides("CaSO4").get("SO3").is_some());
         let calcite = oxides("CaCO3");
-        // CaO 56.03, CO2 43.97 (webmineral.com calcite composition, from memory).
+        // CaO 56.03, CO2 43.97 (molmass 2026.1.8: CaO/CaCO3 = 56.029 %,
+        // CO2/CaCO3 = 43.971 %).
         assert!(calcite.get("CaO").is_some_and(|w| close(w, 56.03, 0.01)));
         assert!(calcite.get("CO2").is_some_and(|w| close(w, 43.97, 0.01)));
         // Unusual states get their oxide name built the same way.

@@ -16,6 +16,9 @@ async fn observations_in_scored_candidates_out() {
     assert_eq!(r.status, StatusCode::OK, "{}", r.text());
     let v = r.json();
     let cands = v["candidates"].as_array().expect("candidates");
+    // Every entry of the contract's base (26) is scored. A black mica whose
+    // flakes spring back, in granite, is biotite: the everyday field call
+    // (common practice), which the base's biotite entry encodes.
     assert_eq!(cands.len(), 26);
     assert_eq!(cands[0]["id"], "biotite");
     for key in [
@@ -33,6 +36,7 @@ async fn observations_in_scored_candidates_out() {
         .map(|c| c["probability"].as_f64().expect("p"))
         .sum::<f64>()
         + v["outside_base"].as_f64().expect("outside");
+    // The contract: candidates plus outside_base sum to 1 (± 0.001).
     assert!((total - 1.0).abs() <= 0.001, "{total}");
     assert!(
         v["groups"]
@@ -43,6 +47,7 @@ async fn observations_in_scored_candidates_out() {
     );
     let q = &v["next_questions"][0];
     assert!(q["property"].is_string() && q["expected_gain_bits"].as_f64().expect("gain") > 0.0);
+    // Our own floor for "says how": a sentence, not a bare label.
     assert!(q["how"].as_str().expect("how").len() > 20);
     assert!(v["cautions"].is_array());
     assert!(
@@ -58,6 +63,7 @@ async fn an_empty_object_is_a_valid_request() {
     let app = TestApp::new().await;
     let r = app.identify("{}").await;
     assert_eq!(r.status, StatusCode::OK);
+    // Nothing observed: every one of the contract's 14 properties is asked.
     assert_eq!(
         r.json()["next_questions"]
             .as_array()
@@ -87,6 +93,8 @@ async fn chrysotile_carries_the_asbestos_caution() {
         .identify(r#"{"habit": "fibrous", "luster": "silky", "setting": "ultramafic"}"#)
         .await;
     let v = r.json();
+    // Silky fibres in an ultramafic rock are fibrous serpentine, chrysotile
+    // (common practice; the base's chrysotile entry encodes it).
     assert_eq!(v["candidates"][0]["id"], "chrysotile");
     assert_eq!(v["cautions"][0]["code"], "asbestos");
 }

@@ -5,6 +5,9 @@ use basal::base::REQUIRED_IDS;
 
 use crate::helpers::{Reply, TestApp};
 
+#[path = "../common/handbook.rs"]
+mod handbook;
+
 /// Asserts what every HTML page of ours must be: HTML, under the CSP that
 /// forbids scripts, with no script in it, in the layout, with our stylesheet.
 fn assert_is_reference_html(r: &Reply, uri: &str) {
@@ -96,14 +99,21 @@ async fn the_list_page_links_every_entry_of_the_base() {
         assert!(body.contains(heading), "no {heading}");
     }
     assert!(body.contains(r#"<th scope="col">Formula</th>"#));
-    // Talc's display formula, and muscovite's ranges: hardness 2–3, SG
-    // 2.77–2.88 (Handbook of Mineralogy, muscovite sheet, as the base
-    // records them).
+    // Talc's display formula, and muscovite's ranges as the handbook sheet
+    // prints them (`handbook::MUSCOVITE`, read once): its single hardness
+    // figure widened by the base's ± 0.5 rule, and its D(meas.) range.
     assert!(body.contains("Mg₃Si₄O₁₀(OH)₂"));
+    let sheet = &handbook::MUSCOVITE;
+    let half = handbook::SINGLE_FIGURE_HARDNESS_HALF_WIDTH;
+    let hardness = format!("{}–{}", sheet.hardness - half, sheet.hardness + half);
+    let [d_lo, d_hi] = sheet.density_measured;
+    let density = format!("{d_lo}–{d_hi}");
     let muscovite = r#"<a href="/minerals/muscovite">Muscovite</a>"#;
     assert_eq!(
         cells_after(&body, muscovite, 3),
-        ["KAl₂(AlSi₃O₁₀)(OH,F)₂", "2–3", "2.77–2.88"]
+        ["KAl₂(AlSi₃O₁₀)(OH,F)₂", hardness.as_str(), density.as_str()],
+        "{}",
+        sheet.citation
     );
     // Chrysotile is tagged with its hazard in the list.
     assert!(body.contains("asbestiform fibres"));
