@@ -93,6 +93,7 @@ pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
         .await
         .context("opening the database")?;
     MIGRATOR.run(&pool).await?;
+    drafts::remove_stale_empty(&pool, std::time::SystemTime::now()).await?;
     Ok(pool)
 }
 
