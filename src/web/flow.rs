@@ -461,8 +461,26 @@ pub struct SeparatingView {
     pub property: &'static str,
     /// How to do it.
     pub how: String,
-    /// "brittle → favours chloritoid about 30 to 1".
+    /// What the first typically shows.
+    pub first_typical: String,
+    /// What the second typically shows.
+    pub second_typical: String,
+    /// "green → typical of Chlorite, not of Muscovite".
     pub outcomes: Vec<String>,
+    /// Where each is typically found (context, not a test).
+    pub settings: (String, String),
+}
+
+/// Two plausible leaders that no hand test separates.
+pub struct NoHandView {
+    /// First candidate's name.
+    pub first: String,
+    /// Second candidate's name.
+    pub second: String,
+    /// The base's laboratory note.
+    pub laboratory: Option<String>,
+    /// Where each is typically found (context, not a test).
+    pub settings: (String, String),
 }
 
 /// The results page.
@@ -489,6 +507,8 @@ pub struct ResultsPage {
     pub groups: Vec<(String, String)>,
     /// The best test between the two leaders.
     pub separating: Option<SeparatingView>,
+    /// Said plainly when no hand test separates the two leaders.
+    pub no_hand_test: Option<NoHandView>,
     /// Cautions.
     pub cautions: Vec<CautionView>,
     /// What a laboratory method would settle.
@@ -597,24 +617,43 @@ async fn results(
         .max(1)
         .min(views_all.len());
     let rest = views_all.split_off(split);
+    let setting_of = |eid: &str| {
+        base.entry(eid).map_or_else(String::new, |e| {
+            crate::engine::lookalikes::typical(e, Property::Setting).labels()
+        })
+    };
     let separating = id.separating_test.as_ref().map(|s| SeparatingView {
         first: name_of(&s.first),
         second: name_of(&s.second),
         label: s.property.label(),
         property: s.property.as_str(),
         how: s.how.clone(),
+        first_typical: s.first_typical.clone(),
+        second_typical: s.second_typical.clone(),
         outcomes: s
             .outcomes
             .iter()
             .map(|oc| {
+                let other = if oc.favours == s.first {
+                    &s.second
+                } else {
+                    &s.first
+                };
                 format!(
-                    "{} → favours {} about {:.0} to 1",
+                    "{} → typical of {}, not of {}",
                     answer_label(s.property, &oc.answer),
                     name_of(&oc.favours),
-                    oc.ratio
+                    name_of(other)
                 )
             })
             .collect(),
+        settings: (setting_of(&s.first), setting_of(&s.second)),
+    });
+    let no_hand_test = id.no_hand_test.as_ref().map(|n| NoHandView {
+        first: name_of(&n.first),
+        second: name_of(&n.second),
+        laboratory: n.laboratory.clone(),
+        settings: (setting_of(&n.first), setting_of(&n.second)),
     });
     Ok(ResultsPage {
         title: "Results",
@@ -634,9 +673,14 @@ async fn results(
                 (g.id.label().to_string(), views::percent(g.probability))
             })
             .collect(),
+        laboratory: id.laboratory.clone().filter(|l| {
+            no_hand_test
+                .as_ref()
+                .is_none_or(|n| n.laboratory.as_ref() != Some(l))
+        }),
         separating,
+        no_hand_test,
         cautions: views::cautions(&id),
-        laboratory: id.laboratory.clone(),
         observation_conflicts: id.observation_conflicts.clone(),
         answers: views::answers(o, &format!("/identify/{}", d.id)),
         observed_anything: !o.is_empty(),
