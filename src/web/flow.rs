@@ -11,7 +11,7 @@ use askama::Template;
 use askama_web::WebTemplate;
 use axum::Router;
 use axum::body::Bytes;
-use axum::extract::{Extension, Path, Query, State};
+use axum::extract::{DefaultBodyLimit, Extension, Path, Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect, Response};
 use axum::routing::{get, post};
@@ -39,7 +39,12 @@ pub const STOP_GAIN_BITS: f64 = 0.05;
 /// How many leaders the side panel shows.
 const LEADERS: usize = 5;
 
-/// Routes of the flow.
+/// Largest form body the flow accepts. The everything-at-once form with
+/// every box ticked is under 2 KiB; the limit of the JSON API is ample.
+pub const FORM_LIMIT: usize = super::api::BODY_LIMIT;
+
+/// Routes of the flow. Every POST is a form checked against forgery
+/// ([`csrf::verify`]) and limited to [`FORM_LIMIT`].
 pub fn router() -> Router<AppState> {
     Router::new()
         .route("/identify", get(start).post(begin))
@@ -48,6 +53,7 @@ pub fn router() -> Router<AppState> {
         .route("/identify/{id}/all", get(all_form).post(all_answer))
         .route("/identify/{id}/results", get(results))
         .route("/identify/{id}/discard", post(discard))
+        .layer(DefaultBodyLimit::max(FORM_LIMIT))
 }
 
 type PageResult<T> = Result<T, PageError>;

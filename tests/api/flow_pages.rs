@@ -142,6 +142,20 @@ async fn a_cross_site_post_to_identify_is_refused_and_creates_nothing() {
 }
 
 #[tokio::test]
+async fn an_oversized_start_form_is_refused_and_creates_nothing() {
+    let app = TestApp::new().await;
+    let mut s = Session::new(&app);
+    s.get("/identify").await;
+    let big = format!(
+        "question=setting&setting=granite&pad={}",
+        "x".repeat(100 * 1024)
+    );
+    let r = s.submit("/identify", &big).await;
+    assert_eq!(r.status, StatusCode::PAYLOAD_TOO_LARGE);
+    assert_eq!(draft_rows(&app).await, 0);
+}
+
+#[tokio::test]
 async fn drafts_with_nothing_observed_are_not_listed() {
     let app = TestApp::new().await;
     let mut s = Session::new(&app);
