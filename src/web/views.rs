@@ -531,3 +531,25 @@ pub fn gain_words(bits: f64) -> String {
         format!("Expected to tell about {figure} bits for this specimen.")
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_small_gain_is_said_in_words_and_never_as_zero_bits() {
+        for bits in [0.0, 0.004, 0.005, 0.02, 0.0499] {
+            let w = gain_words(bits);
+            assert!(w.contains("unlikely to change the answer"), "{bits}: {w}");
+            assert!(!w.contains("bits"), "{bits}: {w}");
+        }
+        assert_eq!(
+            gain_words(0.05),
+            "Expected to tell about 0.05 bits for this specimen."
+        );
+        assert_eq!(
+            gain_words(0.4213),
+            "Expected to tell about 0.42 bits for this specimen."
+        );
+    }
+}

@@ -81,12 +81,10 @@ async fn the_start_form_creates_the_draft_with_its_first_answer() {
         html.contains("action=\"/identify\""),
         "the form posts to /identify"
     );
-    let asked = html
-        .split("name=\"question\" value=\"")
-        .nth(1)
-        .and_then(|r| r.split('"').next())
-        .expect("a question")
-        .to_string();
+    assert!(
+        html.contains("name=\"question\" value=\""),
+        "no first question"
+    );
     assert_eq!(draft_rows(&app).await, 0);
     let r = s
         .submit(
@@ -110,7 +108,6 @@ async fn the_start_form_creates_the_draft_with_its_first_answer() {
     let r = s.submit("/identify", "then=all").await;
     assert_eq!(r.status, StatusCode::SEE_OTHER);
     assert!(r.location().ends_with("/all"), "{}", r.location());
-    let _ = asked;
 }
 
 #[tokio::test]
@@ -579,7 +576,7 @@ async fn the_results_page_lists_the_unanswered_questions_with_working_links() {
     }
     assert!(section.contains("recorded as not tested"));
     // An observed property is not in the list.
-    assert!(!section.contains(&format!("?ask=cleavage")));
+    assert!(!section.contains("?ask=cleavage"));
 }
 
 #[tokio::test]
