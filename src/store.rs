@@ -112,6 +112,7 @@ pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
         return Err(e);
     }
     MIGRATOR.run(&pool).await?;
+    drafts::remove_stale_empty(&pool, std::time::SystemTime::now()).await?;
     Ok(pool)
 }
 

@@ -249,17 +249,13 @@ async fn a_refused_answer_keeps_what_was_typed(c: &Client, base: &str, shots: &P
     c.goto(&format!("{base}/identify"))
         .await
         .expect("the browser opens a fresh /identify");
-    let action = c
-        .find(Locator::Css("form.question-form"))
-        .await
-        .expect("a question page has its form")
-        .attr("action")
-        .await
-        .expect("the form's action can be read")
-        .expect("the question form has an action");
-    let draft = action
+    // The start page stores nothing; submitting its first question (left
+    // blank: "not tested") creates the draft and lands on its own URL.
+    click_and_wait_for_next_page(c, r#"button[name="then"][value="next"]"#).await;
+    let path = current_path(c).await;
+    let draft = path
         .strip_prefix("/identify/")
-        .unwrap_or_else(|| panic!("the form posts to a draft URL, not {action:?}"));
+        .unwrap_or_else(|| panic!("the start form leads to a draft URL, not {path:?}"));
     c.goto(&format!("{base}/identify/{draft}?q=hardness"))
         .await
         .expect("the browser opens the hardness question");

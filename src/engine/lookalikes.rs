@@ -38,12 +38,34 @@
 //! The nearest lookalikes of an entry are the [`NEAREST`] other entries of
 //! highest `S` (ties broken by id, so the list is deterministic), and one
 //! more when it comes within [`NEAR_TIE`] of the last of them, since cutting
-//! a near tie would be arbitrary. For each lookalike, the tests that separate
-//! the pair are the properties of lowest `BCₚ`: the best one always, and up
-//! to [`SEPARATORS`] in all while their overlap stays at or below
-//! [`WEAK_OVERLAP`]. The setting counts towards `S` but is not offered as a
-//! separating test: it is where the specimen was found, not something done
-//! to it.
+//! a near tie would be arbitrary.
+//!
+//! # Which tests separate a pair
+//!
+//! The overlap above mixes in every value a mineral shows now and then (the
+//! occasional values, the observer-error floor), which is right for scoring
+//! and for "what is it taken for", but wrong for "which test tells them
+//! apart": a small tail (muscovite is occasionally soapy) then reads as a
+//! contrast no mineralogist would draw. So a test is offered only when the
+//! contrast is in what both minerals *typically* show ([`contrast`]):
+//!
+//! - a categorical property separates the pair when their typical value
+//!   sets are disjoint ([`Contrast::Disjoint`]: whatever a typical specimen
+//!   shows points to one of them), or when each has a typical value that the
+//!   other never shows, neither typically nor occasionally
+//!   ([`Contrast::EachHasItsOwn`]: chlorite's greenish streak against
+//!   biotite's grey one, while a white streak leaves it open);
+//! - hardness separates when the two ranges lie at least [`HARDNESS_GAP`]
+//!   apart, specific gravity when they lie at least [`SG_GAP`] apart
+//!   ([`Contrast::Disjoint`]): ranges that touch or overlap cannot be told
+//!   apart by a reading with its usual error.
+//!
+//! The separating tests of a pair are those properties, disjoint ones
+//! first, then by lowest `BCₚ` (ties in the order of [`Property::ALL`]), up
+//! to [`SEPARATORS`]. When there is none, no hand test separates the pair
+//! and the pages say so (with the base's laboratory note). The setting
+//! counts towards `S` but is never offered as a test: it is where the
+//! specimen was found, not something done to it.
 
 use crate::base::vocab::{Vocab, YesNo};
 use crate::base::{Entry, Range, Values};
@@ -62,11 +84,28 @@ pub const NEAR_TIE: f64 = 0.01;
 /// At most this many separating tests are given per lookalike.
 pub const SEPARATORS: usize = 3;
 
-/// Above this overlap a test hardly tells the pair apart (it would decide
-/// against the right answer up to nearly half the time). Such tests are
-/// listed only when nothing better exists, and the pages then say that no
-/// hand test separates the pair well.
-pub const WEAK_OVERLAP: f64 = 0.9;
+/// Hardness ranges separate a pair only when at least this far apart
+/// (Mohs): two scratch readings, each good to about half a step
+/// ([`super::measure::HARDNESS_SIGMA`]), must not meet in between. Common
+/// practice: a hand test tells minerals a whole step apart, not half a step.
+pub const HARDNESS_GAP: f64 = 2.0 * super::measure::HARDNESS_SIGMA;
+
+/// Specific-gravity ranges separate a pair only when at least this far
+/// apart: twice the error of a pocket-balance figure
+/// ([`super::measure::SG_VALUE_SIGMA`], common practice).
+pub const SG_GAP: f64 = 2.0 * super::measure::SG_VALUE_SIGMA;
+
+/// How a property tells two entries apart by what they typically show (see
+/// the module doc). No contrast is `None` from [`contrast`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Contrast {
+    /// Typical value sets disjoint, or ranges far enough apart: every
+    /// typical outcome points to one of the two.
+    Disjoint,
+    /// Each has a typical value the other never shows; shared typical
+    /// values leave the question open.
+    EachHasItsOwn,
+}
 
 /// One value an entry shows, as the contract names it and as people read it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -183,6 +222,47 @@ pub fn occasional(e: &Entry, p: Property) -> Shows {
     shows(e, p, false)
 }
 
+fn values_of(s: &Shows) -> Vec<&'static str> {
+    match s {
+        Shows::Values(v) => v.iter().map(|x| x.value).collect(),
+        _ => Vec::new(),
+    }
+}
+
+fn ranges_apart(a: Range, b: Range, gap: f64) -> bool {
+    // A small slack so that a gap of exactly one step (2–2.5 against 3.5)
+    // is not lost to floating point.
+    b.min - a.max >= gap - 1e-9 || a.min - b.max >= gap - 1e-9
+}
+
+/// Whether, and how, property `p` separates entries `a` and `b` by their
+/// typical values and ranges alone (the occasional values count only as
+/// "shows it sometimes"). Symmetric.
+pub fn contrast(a: &Entry, b: &Entry, p: Property) -> Option<Contrast> {
+    match p {
+        Property::Hardness => {
+            ranges_apart(a.hardness, b.hardness, HARDNESS_GAP).then_some(Contrast::Disjoint)
+        }
+        Property::SpecificGravity => ranges_apart(a.specific_gravity, b.specific_gravity, SG_GAP)
+            .then_some(Contrast::Disjoint),
+        _ => {
+            let (ta, tb) = (values_of(&typical(a, p)), values_of(&typical(b, p)));
+            if ta.is_empty() || tb.is_empty() {
+                return None;
+            }
+            if ta.iter().all(|v| !tb.contains(v)) {
+                return Some(Contrast::Disjoint);
+            }
+            let (oa, ob) = (values_of(&occasional(a, p)), values_of(&occasional(b, p)));
+            let own = |t: &[&str], other_t: &[&str], other_o: &[&str]| {
+                t.iter()
+                    .any(|v| !other_t.contains(v) && !other_o.contains(v))
+            };
+            (own(&ta, &tb, &ob) && own(&tb, &ta, &oa)).then_some(Contrast::EachHasItsOwn)
+        }
+    }
+}
+
 /// How much entries `i` and `j` (positions in the base) overlap on `p`:
 /// the Bhattacharyya coefficient `Σₐ √(pᵢ(a) · pⱼ(a))`, in `(0, 1]`.
 /// Positions outside the base overlap nowhere (0).
@@ -211,6 +291,8 @@ pub struct Separator {
     pub property: Property,
     /// Its overlap `BCₚ` for the pair (lower separates better).
     pub overlap: f64,
+    /// How the typical values contrast.
+    pub contrast: Contrast,
     /// What the entry itself typically shows.
     pub this: Shows,
     /// What the lookalike typically shows.
@@ -231,44 +313,50 @@ pub struct Lookalike {
 }
 
 impl Lookalike {
-    /// Whether even the best hand test hardly tells the pair apart
-    /// (its overlap is above [`WEAK_OVERLAP`]).
+    /// Whether no hand test separates the pair (no property passes
+    /// [`contrast`]).
     pub fn hard_to_separate(&self) -> bool {
-        self.separators
-            .first()
-            .is_none_or(|s| s.overlap > WEAK_OVERLAP)
+        self.separators.is_empty()
     }
 }
 
-/// The tests that separate entries `i` and `j` best, lowest overlap first
-/// (ties in the order of [`Property::ALL`]): the best one, and further ones
-/// up to [`SEPARATORS`] while their overlap is at most [`WEAK_OVERLAP`].
-/// The setting is left out. Empty only for a position outside the base.
-pub fn separators(engine: &Engine, i: usize, j: usize) -> Vec<Separator> {
+/// Every test that separates entries `i` and `j` by [`contrast`], best
+/// first: disjoint contrasts before partial ones, then lowest overlap
+/// (ties in the order of [`Property::ALL`]). The setting is left out.
+/// Empty when no hand test separates them, or for a position outside the
+/// base.
+pub fn all_separators(engine: &Engine, i: usize, j: usize) -> Vec<Separator> {
     let entries = &engine.base().entries;
     let (Some(a), Some(b)) = (entries.get(i), entries.get(j)) else {
         return Vec::new();
     };
-    let mut tests: Vec<(Property, f64)> = Property::ALL
+    let mut tests: Vec<Separator> = Property::ALL
         .iter()
         .filter(|p| **p != Property::Setting)
-        .map(|&p| (p, overlap(engine, p, i, j)))
-        .collect();
-    // A stable sort keeps the order of Property::ALL among equal overlaps.
-    tests.sort_by(|x, y| x.1.total_cmp(&y.1));
-    tests
-        .into_iter()
-        .enumerate()
-        .take_while(|(k, (_, o))| *k == 0 || *o <= WEAK_OVERLAP)
-        .take(SEPARATORS)
-        .map(|(_, t)| t)
-        .map(|(property, overlap)| Separator {
-            property,
-            overlap,
-            this: typical(a, property),
-            other: typical(b, property),
+        .filter_map(|&p| {
+            contrast(a, b, p).map(|c| Separator {
+                property: p,
+                overlap: overlap(engine, p, i, j),
+                contrast: c,
+                this: typical(a, p),
+                other: typical(b, p),
+            })
         })
-        .collect()
+        .collect();
+    // A stable sort keeps the order of Property::ALL among equal keys.
+    tests.sort_by(|x, y| {
+        x.contrast
+            .cmp(&y.contrast)
+            .then(x.overlap.total_cmp(&y.overlap))
+    });
+    tests
+}
+
+/// The best [`SEPARATORS`] of [`all_separators`].
+pub fn separators(engine: &Engine, i: usize, j: usize) -> Vec<Separator> {
+    let mut tests = all_separators(engine, i, j);
+    tests.truncate(SEPARATORS);
+    tests
 }
 
 /// The nearest lookalikes of the entry with this id, most similar first;
@@ -388,17 +476,26 @@ mod tests {
                 assert!(w[0].similarity >= w[1].similarity, "{}", entry.id);
             }
             for l in &list {
-                assert!(
-                    (1..=SEPARATORS).contains(&l.separators.len()),
-                    "{} / {}",
-                    entry.id,
-                    l.id
-                );
+                assert!(l.separators.len() <= SEPARATORS, "{} / {}", entry.id, l.id);
+                assert_eq!(l.hard_to_separate(), l.separators.is_empty());
                 for w in l.separators.windows(2) {
-                    assert!(w[0].overlap <= w[1].overlap);
+                    assert!(
+                        (w[0].contrast, w[0].overlap) <= (w[1].contrast, w[1].overlap),
+                        "{} / {}: not best first",
+                        entry.id,
+                        l.id
+                    );
                 }
-                for s in l.separators.iter().skip(1) {
-                    assert!(s.overlap <= WEAK_OVERLAP, "{} / {}", entry.id, l.id);
+                // Every test offered passes the typical-value rule.
+                let other = engine().base().entry(&l.id).expect("lookalike in base");
+                for s in &l.separators {
+                    assert_eq!(
+                        contrast(entry, other, s.property),
+                        Some(s.contrast),
+                        "{} / {}",
+                        entry.id,
+                        l.id
+                    );
                 }
                 assert!(
                     l.separators.iter().all(|s| s.property != Property::Setting),
@@ -470,6 +567,97 @@ mod tests {
         // section (common practice).
         assert!(ids(&nearest("lizardite")).contains(&"antigorite"));
         assert!(ids(&nearest("antigorite")).contains(&"lizardite"));
+    }
+
+    fn contrast_of(a: &str, b: &str, p: Property) -> Option<Contrast> {
+        let base = engine().base();
+        let (x, y) = (base.entry(a).expect("a"), base.entry(b).expect("b"));
+        let c = contrast(x, y, p);
+        assert_eq!(c, contrast(y, x, p), "{a} / {b} / {p}: not symmetric");
+        c
+    }
+
+    #[test]
+    fn muscovite_and_lepidolite_are_told_apart_by_colour_not_by_feel() {
+        // Lepidolite is lilac to pink, muscovite colourless to silvery grey;
+        // colour and a lithium pegmatite setting are the hand-sample clues
+        // (Handbook of Mineralogy, polylithionite and muscovite sheets:
+        // colours; Klein & Dutrow, Manual of Mineral Science, lepidolite:
+        // "pink and lilac", in pegmatites; both from memory, no copy at hand).
+        // Both feel smooth: "occasionally soapy" muscovite is no contrast.
+        assert_eq!(
+            contrast_of("muscovite", "lepidolite", Property::Colour),
+            Some(Contrast::Disjoint)
+        );
+        assert_eq!(contrast_of("muscovite", "lepidolite", Property::Feel), None);
+        let tests = separating("muscovite", "lepidolite");
+        assert_eq!(tests.first(), Some(&Property::Colour), "{tests:?}");
+        assert!(!tests.contains(&Property::Feel), "{tests:?}");
+        let s = &separators(engine(), index("muscovite"), index("lepidolite"))[0];
+        assert!(s.other.to_string().contains("lilac"), "{s:?}");
+    }
+
+    #[test]
+    fn no_hand_test_separates_talc_from_pyrophyllite() {
+        // "Pyrophyllite cannot be distinguished from talc in hand specimen";
+        // XRD or the cobalt nitrate test does (Klein & Dutrow, Manual of
+        // Mineral Science, pyrophyllite; from memory). The base's lab note
+        // says the same.
+        assert_eq!(separating("talc", "pyrophyllite"), Vec::<Property>::new());
+        let pair = nearest("talc")
+            .into_iter()
+            .find(|l| l.id == "pyrophyllite")
+            .expect("pyrophyllite is talc's lookalike");
+        assert!(pair.hard_to_separate());
+        let talc = engine().base().entry("talc").expect("talc");
+        assert!(talc.lab.contains("XRD"), "{}", talc.lab);
+    }
+
+    #[test]
+    fn chlorite_and_biotite_are_told_apart_by_tenacity_and_streak() {
+        // Biotite flakes are elastic, chlorite flakes flexible but not
+        // elastic; chlorite streaks pale green, biotite white to grey
+        // (Handbook of Mineralogy, clinochlore and annite/phlogopite sheets,
+        // tenacity and streak; Klein & Dutrow, Manual of Mineral Science,
+        // chlorite: "flexible but not elastic"; from memory).
+        let tests = separating("chlorite", "biotite");
+        assert!(tests.contains(&Property::Tenacity), "{tests:?}");
+        assert!(tests.contains(&Property::Streak), "{tests:?}");
+        assert_eq!(
+            contrast_of("chlorite", "biotite", Property::Tenacity),
+            Some(Contrast::Disjoint)
+        );
+        // A white streak is typical of both, so streak only partly decides.
+        assert_eq!(
+            contrast_of("chlorite", "biotite", Property::Streak),
+            Some(Contrast::EachHasItsOwn)
+        );
+    }
+
+    #[test]
+    fn overlapping_ranges_do_not_separate() {
+        // Chlorite 2.60–3.30 and antigorite 2.50–2.65 in the base: the SG
+        // ranges overlap, so a balance cannot tell them apart.
+        assert_eq!(
+            contrast_of("chlorite", "antigorite", Property::SpecificGravity),
+            None
+        );
+        // Chlorite 2–2.5 against biotite 2.5–3: touching ranges.
+        assert_eq!(contrast_of("chlorite", "biotite", Property::Hardness), None);
+        // Graphite 2.10–2.30 against molybdenite 4.60–5.00: far apart.
+        assert_eq!(
+            contrast_of("graphite", "molybdenite", Property::SpecificGravity),
+            Some(Contrast::Disjoint)
+        );
+    }
+
+    #[test]
+    fn ranges_separate_at_the_gap_and_not_below() {
+        let r = |min, max| Range { min, max };
+        assert!(ranges_apart(r(2.0, 2.5), r(3.5, 4.0), HARDNESS_GAP));
+        assert!(!ranges_apart(r(2.0, 2.5), r(3.4, 4.0), HARDNESS_GAP));
+        assert!(ranges_apart(r(3.5, 4.0), r(2.0, 2.5), HARDNESS_GAP));
+        assert!(!ranges_apart(r(2.6, 2.8), r(2.9, 3.0), SG_GAP));
     }
 
     #[test]

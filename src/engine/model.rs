@@ -567,7 +567,7 @@ impl Engine {
         });
 
         let next_questions = self.next_questions(o, &probs);
-        let separating_test = self.separating_test(o, &order);
+        let (separating_test, no_hand_test) = self.separating_test(o, &order, &probs);
         let cautions = super::cautions::cautions(&self.base, &candidates, o);
         let laboratory = self.laboratory(&candidates, separating_test.as_ref());
 
@@ -580,6 +580,7 @@ impl Engine {
             base_version: self.base.version.clone(),
             observation_conflicts: notes,
             separating_test,
+            no_hand_test,
             laboratory,
             derived,
         }

@@ -87,18 +87,22 @@ pub struct Caution {
     pub message: String,
 }
 
-/// What one outcome of the separating test would mean.
+/// What one outcome of the separating test would mean: an answer typical
+/// of one candidate and not of the other.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct Outcome {
-    /// The answer, as the contract value (`"brittle"`, `"below 2.5"`).
+    /// The answer, as the contract value (`"brittle"`), or for hardness and
+    /// specific gravity the favoured candidate's range (`"2–2.5"`).
     pub answer: String,
     /// Which of the two candidates it favours, by id.
     pub favours: String,
-    /// How strongly: the likelihood ratio between the two.
+    /// How strongly: the likelihood ratio between the two under the model.
     pub ratio: f64,
 }
 
-/// The single test that best separates the two leading candidates.
+/// The single test that best separates the two leading candidates, offered
+/// only when both are plausible (see `engine::questions::PLAUSIBLE_RATIO`)
+/// and the test passes `engine::lookalikes::contrast` for the pair.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 pub struct SeparatingTest {
     /// Leading candidate id.
@@ -113,6 +117,26 @@ pub struct SeparatingTest {
     pub how: String,
     /// The outcomes that tell them apart most.
     pub outcomes: Vec<Outcome>,
+    /// What the leading candidate typically shows for this property, for
+    /// people (`"flexible (stays bent)"`, `"2–2.5"`).
+    #[serde(default)]
+    pub first_typical: String,
+    /// What the second candidate typically shows.
+    #[serde(default)]
+    pub second_typical: String,
+}
+
+/// Two plausible leaders that no hand-sample test separates (nothing
+/// either typically shows tells them apart).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
+pub struct NoHandTest {
+    /// Leading candidate id.
+    pub first: String,
+    /// Second candidate id.
+    pub second: String,
+    /// What a laboratory method would settle, from the base's notes.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub laboratory: Option<String>,
 }
 
 /// Quantities the engine derived from the raw observations.
@@ -158,6 +182,10 @@ pub struct Identification {
     /// The test that best separates the two leading candidates, if any remains.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub separating_test: Option<SeparatingTest>,
+    /// Set when the two leaders are both plausible and no hand-sample test
+    /// separates them at all.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub no_hand_test: Option<NoHandTest>,
     /// What a laboratory method would settle, when the leaders cannot be told
     /// apart in hand sample.
     #[serde(default, skip_serializing_if = "Option::is_none")]

@@ -11,7 +11,7 @@ use askama::Template;
 use askama_web::WebTemplate;
 use axum::Router;
 use axum::body::Bytes;
-use axum::extract::{Extension, Path, Query, State};
+use axum::extract::{DefaultBodyLimit, Extension, Path, Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect, Response};
 use axum::routing::{get, post};
@@ -25,25 +25,35 @@ use super::views::{self, AnswerView, CautionView, LeaderView, QuestionView, Sour
 use crate::engine::{Identification, Observations, Property};
 use crate::store::drafts::{self, Draft};
 
-/// Below this expected gain (bits) no question is worth the geologist's
-/// time and the flow goes to the results by itself. A judgement: a test
-/// expected to remove 0.05 bits moves the leading probability by a few
-/// percentage points at most, less than the spread of the observer-error
-/// rates themselves; asking it would cost minutes for no practical change.
+/// Below this expected gain (bits) the flow advises that the answer is
+/// unlikely to change: the question page says so and offers the results,
+/// and the results page stops suggesting "keep going". It is advice only:
+/// every remaining question can still be answered from either page (a
+/// geologist who has a streak or a hardness wants it recorded, and it may
+/// still catch a wrong observation). A judgement: a test expected to
+/// remove 0.05 bits moves the leading probability by a few percentage
+/// points at most, less than the spread of the observer-error rates
+/// themselves.
 pub const STOP_GAIN_BITS: f64 = 0.05;
 
 /// How many leaders the side panel shows.
 const LEADERS: usize = 5;
 
-/// Routes of the flow.
+/// Largest form body the flow accepts. The everything-at-once form with
+/// every box ticked is under 2 KiB; the limit of the JSON API is ample.
+pub const FORM_LIMIT: usize = super::api::BODY_LIMIT;
+
+/// Routes of the flow. Every POST is a form checked against forgery
+/// ([`csrf::verify`]) and limited to [`FORM_LIMIT`].
 pub fn router() -> Router<AppState> {
     Router::new()
-        .route("/identify", get(start))
+        .route("/identify", get(start).post(begin))
         .route("/identify/drafts", get(list))
         .route("/identify/{id}", get(question).post(answer))
         .route("/identify/{id}/all", get(all_form).post(all_answer))
         .route("/identify/{id}/results", get(results))
         .route("/identify/{id}/discard", post(discard))
+        .layer(DefaultBodyLimit::max(FORM_LIMIT))
 }
 
 type PageResult<T> = Result<T, PageError>;
@@ -64,14 +74,42 @@ async fn load(st: &AppState, id: &str) -> PageResult<Draft> {
     drafts::get(&st.db, id).await?.ok_or_else(missing)
 }
 
-/// The next question worth asking: highest expected gain among the
-/// properties neither answered nor recorded as not tested.
-fn next_property(id: &Identification, d: &Draft) -> Option<(Property, f64)> {
+/// The next question to ask: highest expected gain among the properties
+/// neither answered nor recorded as not tested, however small the gain
+/// (see [`STOP_GAIN_BITS`] for the advice shown when it is small).
+fn next_property(id: &Identification, skipped: &[Property]) -> Option<(Property, f64)> {
     id.next_questions
         .iter()
-        .find(|q| !d.skipped.contains(&q.property))
-        .filter(|q| q.expected_gain_bits >= STOP_GAIN_BITS)
+        .find(|q| !skipped.contains(&q.property))
         .map(|q| (q.property, q.expected_gain_bits))
+}
+
+/// Whether a question is expected to tell enough to suggest it.
+fn worth_asking(gain: f64) -> bool {
+    gain >= STOP_GAIN_BITS
+}
+
+/// An unanswered question, as a link that asks it.
+pub struct RemainingView {
+    /// Its label.
+    pub label: &'static str,
+    /// `/identify/{id}?ask=property`.
+    pub href: String,
+    /// Recorded as "not tested" earlier.
+    pub not_tested: bool,
+}
+
+/// Every property not observed yet, most informative first, each with the
+/// link that asks it.
+fn remaining(id: &Identification, d: &Draft) -> Vec<RemainingView> {
+    id.next_questions
+        .iter()
+        .map(|q| RemainingView {
+            label: q.property.label(),
+            href: format!("/identify/{}?ask={}", d.id, q.property.as_str()),
+            not_tested: d.skipped.contains(&q.property),
+        })
+        .collect()
 }
 
 /// A question page.
@@ -84,10 +122,18 @@ pub struct QuestionPage {
     pub base_version: String,
     /// Anti-forgery token for the form.
     pub csrf: String,
-    /// The draft.
-    pub draft_id: String,
+    /// Where the form posts: the draft's URL, or `/identify` on the start
+    /// page (the first answer creates the draft).
+    pub action: String,
+    /// The draft, once there is one.
+    pub draft_id: Option<String>,
     /// The question.
     pub q: QuestionView,
+    /// Whether even the best remaining question is unlikely to change the
+    /// answer (below [`STOP_GAIN_BITS`]).
+    pub settled: bool,
+    /// The questions still open, as links (shown when `settled`).
+    pub remaining: Vec<RemainingView>,
     /// Leading candidates.
     pub leaders: Vec<LeaderView>,
     /// The outside-the-base entry.
@@ -109,12 +155,16 @@ fn question_page(
     id: &Identification,
     q: QuestionView,
 ) -> QuestionPage {
+    let best = next_property(id, &d.skipped).map_or(0.0, |(_, g)| g);
     QuestionPage {
         title: format!("{} · identification", q.label),
         base_version: st.engine.base().version.clone(),
         csrf: csrf.0.clone(),
-        draft_id: d.id.clone(),
+        action: format!("/identify/{}", d.id),
+        draft_id: Some(d.id.clone()),
         q,
+        settled: !worth_asking(best),
+        remaining: remaining(id, d),
         leaders: views::leaders(id, LEADERS),
         outside: views::outside(id),
         answers: views::answers(&d.observations, &format!("/identify/{}", d.id)),
@@ -124,27 +174,106 @@ fn question_page(
     }
 }
 
-/// `GET /identify`: starts an identification (a new draft) and shows its
-/// first question. The form posts to the draft's own URL.
+/// The start page: the first question of an identification that has no
+/// draft yet. Its form posts to `/identify`, which creates the draft.
+fn start_page(
+    st: &AppState,
+    csrf: &CsrfToken,
+    src: &Source<'_>,
+    errors: &FieldMessages,
+    asked: Option<Property>,
+) -> QuestionPage {
+    let empty = Observations::default();
+    let id = st.engine.identify(&empty);
+    let best = next_property(&id, &[]);
+    let (p, gain) = match asked {
+        Some(p) => (
+            p,
+            id.next_questions
+                .iter()
+                .find(|q| q.property == p)
+                .map_or(0.0, |q| q.expected_gain_bits),
+        ),
+        None => best.unwrap_or((Property::Setting, 0.0)),
+    };
+    let q = views::question(p, src, errors, Some(gain));
+    QuestionPage {
+        title: format!("{} · identification", q.label),
+        base_version: st.engine.base().version.clone(),
+        csrf: csrf.0.clone(),
+        action: "/identify".to_string(),
+        draft_id: None,
+        q,
+        settled: false,
+        remaining: Vec::new(),
+        leaders: views::leaders(&id, LEADERS),
+        outside: views::outside(&id),
+        answers: Vec::new(),
+        not_tested: Vec::new(),
+        cautions: views::cautions(&id),
+        for_sample: None,
+    }
+}
+
+/// `GET /identify` (and `HEAD`): starts an identification by showing its
+/// first question. Nothing is stored: a page view changes no state, so
+/// reloads, prefetches and other sites' links cannot fill the drafts table.
+/// The draft is created when the form is submitted ([`begin`]).
 async fn start(
     State(st): State<AppState>,
     Extension(csrf): Extension<CsrfToken>,
 ) -> PageResult<QuestionPage> {
-    let d = drafts::create(&st.db).await?;
-    let id = st.engine.identify(&d.observations);
-    let (p, gain) = next_property(&id, &d).unwrap_or((Property::Setting, 0.0));
-    let q = views::question(
-        p,
-        &Source::Stored(&d.observations),
+    Ok(start_page(
+        &st,
+        &csrf,
+        &Source::Stored(&Observations::default()),
         &FieldMessages::new(),
-        Some(gain),
-    );
-    Ok(question_page(&st, &csrf, &d, &id, q))
+        None,
+    ))
 }
 
-/// `?q=property`: the question to show (a "change it" link).
+/// `POST /identify`: the start page's form (checked against forgery like
+/// every form). Creates the draft with the first answer, or with "not
+/// tested" when it was left blank, and goes on: `then=results` to the
+/// results, `then=all` to the everything-at-once form, else to the next
+/// question. A form with no `question` only creates the draft.
+async fn begin(
+    State(st): State<AppState>,
+    Extension(csrf): Extension<CsrfToken>,
+    body: Bytes,
+) -> PageResult<Response> {
+    let form = FormData::parse(&body);
+    csrf::verify(&csrf, form.get(csrf::FIELD))?;
+    let asked = match form.get("question") {
+        None | Some("") => None,
+        Some(name) => Some(Property::parse(name).ok_or_else(|| {
+            PageError::NotFound(format!("There is no question called \"{name}\"."))
+        })?),
+    };
+    let props: Vec<Property> = asked.into_iter().collect();
+    match forms::apply(&Observations::default(), &props, &form) {
+        Ok(applied) => {
+            let d = drafts::create(&st.db, &applied.observations, &applied.not_tested).await?;
+            let next = match form.get("then") {
+                Some("results") => format!("/identify/{}/results", d.id),
+                Some("all") => format!("/identify/{}/all", d.id),
+                _ => format!("/identify/{}", d.id),
+            };
+            Ok(Redirect::to(&next).into_response())
+        }
+        Err(errors) => {
+            let raw = form.raw();
+            let page = start_page(&st, &csrf, &Source::Typed(&raw), &errors, asked);
+            Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response())
+        }
+    }
+}
+
+/// `?ask=property` (or `?q=`, the older name the "change" links use): the
+/// question to show, picked by hand.
 #[derive(Deserialize)]
 struct Ask {
+    ask: Option<String>,
     q: Option<String>,
 }
 
@@ -157,7 +286,7 @@ async fn question(
 ) -> PageResult<Response> {
     let d = load(&st, &draft).await?;
     let id = st.engine.identify(&d.observations);
-    let chosen = match ask.q.as_deref() {
+    let chosen = match ask.ask.as_deref().or(ask.q.as_deref()) {
         Some(name) => Some(
             Property::parse(name)
                 .map(|p| {
@@ -173,7 +302,7 @@ async fn question(
                     PageError::NotFound(format!("There is no question called \"{name}\"."))
                 })?,
         ),
-        None => next_property(&id, &d).map(|(p, g)| (p, Some(g))),
+        None => next_property(&id, &d.skipped).map(|(p, g)| (p, Some(g))),
     };
     let Some((p, gain)) = chosen else {
         return Ok(Redirect::to(&format!("/identify/{}/results", d.id)).into_response());
@@ -338,8 +467,26 @@ pub struct SeparatingView {
     pub property: &'static str,
     /// How to do it.
     pub how: String,
-    /// "brittle → favours chloritoid about 30 to 1".
+    /// What the first typically shows.
+    pub first_typical: String,
+    /// What the second typically shows.
+    pub second_typical: String,
+    /// "green → typical of Chlorite, not of Muscovite".
     pub outcomes: Vec<String>,
+    /// Where each is typically found (context, not a test).
+    pub settings: (String, String),
+}
+
+/// Two plausible leaders that no hand test separates.
+pub struct NoHandView {
+    /// First candidate's name.
+    pub first: String,
+    /// Second candidate's name.
+    pub second: String,
+    /// The base's laboratory note.
+    pub laboratory: Option<String>,
+    /// Where each is typically found (context, not a test).
+    pub settings: (String, String),
 }
 
 /// The results page.
@@ -366,6 +513,8 @@ pub struct ResultsPage {
     pub groups: Vec<(String, String)>,
     /// The best test between the two leaders.
     pub separating: Option<SeparatingView>,
+    /// Said plainly when no hand test separates the two leaders.
+    pub no_hand_test: Option<NoHandView>,
     /// Cautions.
     pub cautions: Vec<CautionView>,
     /// What a laboratory method would settle.
@@ -378,6 +527,8 @@ pub struct ResultsPage {
     pub observed_anything: bool,
     /// A question still worth asking, if any.
     pub more_to_ask: Option<&'static str>,
+    /// Every property not observed yet, with the link that asks it.
+    pub unanswered: Vec<RemainingView>,
     /// The saved sample being tested again (id, code), while it is live.
     pub for_sample: Option<(String, String)>,
 }
@@ -430,7 +581,7 @@ async fn results(
     let d = load(&st, &draft).await?;
     let o = &d.observations;
     let id = st.engine.identify(o);
-    let more = next_property(&id, &d);
+    let more = next_property(&id, &d.skipped).filter(|(_, g)| worth_asking(*g));
     if more.is_none() {
         drafts::finish(&st.db, &d.id).await?;
     }
@@ -472,24 +623,43 @@ async fn results(
         .max(1)
         .min(views_all.len());
     let rest = views_all.split_off(split);
+    let setting_of = |eid: &str| {
+        base.entry(eid).map_or_else(String::new, |e| {
+            crate::engine::lookalikes::typical(e, Property::Setting).labels()
+        })
+    };
     let separating = id.separating_test.as_ref().map(|s| SeparatingView {
         first: name_of(&s.first),
         second: name_of(&s.second),
         label: s.property.label(),
         property: s.property.as_str(),
         how: s.how.clone(),
+        first_typical: s.first_typical.clone(),
+        second_typical: s.second_typical.clone(),
         outcomes: s
             .outcomes
             .iter()
             .map(|oc| {
+                let other = if oc.favours == s.first {
+                    &s.second
+                } else {
+                    &s.first
+                };
                 format!(
-                    "{} → favours {} about {:.0} to 1",
+                    "{} → typical of {}, not of {}",
                     answer_label(s.property, &oc.answer),
                     name_of(&oc.favours),
-                    oc.ratio
+                    name_of(other)
                 )
             })
             .collect(),
+        settings: (setting_of(&s.first), setting_of(&s.second)),
+    });
+    let no_hand_test = id.no_hand_test.as_ref().map(|n| NoHandView {
+        first: name_of(&n.first),
+        second: name_of(&n.second),
+        laboratory: n.laboratory.clone(),
+        settings: (setting_of(&n.first), setting_of(&n.second)),
     });
     Ok(ResultsPage {
         title: "Results",
@@ -509,13 +679,19 @@ async fn results(
                 (g.id.label().to_string(), views::percent(g.probability))
             })
             .collect(),
+        laboratory: id.laboratory.clone().filter(|l| {
+            no_hand_test
+                .as_ref()
+                .is_none_or(|n| n.laboratory.as_ref() != Some(l))
+        }),
         separating,
+        no_hand_test,
         cautions: views::cautions(&id),
-        laboratory: id.laboratory.clone(),
         observation_conflicts: id.observation_conflicts.clone(),
         answers: views::answers(o, &format!("/identify/{}", d.id)),
         observed_anything: !o.is_empty(),
         more_to_ask: more.map(|(p, _)| p.label()),
+        unanswered: remaining(&id, &d),
         for_sample,
     })
 }
@@ -549,6 +725,8 @@ pub struct DraftLine {
     pub leader: String,
     /// Whether the flow has reached its results.
     pub finished: bool,
+    /// The sample it was saved as (id, code), while that sample is live.
+    pub saved_as: Option<(String, String)>,
 }
 
 /// The drafts page.
@@ -571,9 +749,20 @@ async fn list(
     Extension(csrf): Extension<CsrfToken>,
 ) -> PageResult<DraftsPage> {
     let ds = drafts::list_open(&st.db, 200).await?;
+    let mut saved = Vec::with_capacity(ds.len());
+    for d in &ds {
+        saved.push(match d.saved_as.as_deref() {
+            Some(sid) => crate::store::samples::get(&st.db, sid)
+                .await?
+                .filter(|s| !s.deleted)
+                .map(|s| (s.id, s.sample_code)),
+            None => None,
+        });
+    }
     let lines = ds
         .iter()
-        .map(|d| {
+        .zip(saved)
+        .map(|(d, saved_as)| {
             let id = st.engine.identify(&d.observations);
             let leader = id
                 .candidates
@@ -592,6 +781,7 @@ async fn list(
                     .count(),
                 leader,
                 finished: d.finished_at.is_some(),
+                saved_as,
             }
         })
         .collect();

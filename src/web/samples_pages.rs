@@ -96,6 +96,9 @@ pub struct Typed {
     pub observations: String,
     /// Who makes the change.
     pub edited_by: String,
+    /// The identification (draft id) the observations came from, if any
+    /// (hidden), so the drafts list can link to the saved sample.
+    pub draft: String,
 }
 
 fn num_text(x: Option<f64>) -> String {
@@ -128,6 +131,7 @@ impl Typed {
             notes: g("notes"),
             observations: g("observations"),
             edited_by: g("edited_by"),
+            draft: g("draft"),
         }
     }
 
@@ -152,6 +156,7 @@ impl Typed {
             notes: s(&r.notes),
             observations: observations_json(&r.observations),
             edited_by: String::new(),
+            draft: String::new(),
         }
     }
 
@@ -988,7 +993,10 @@ async fn create(
     )
     .await;
     match saved {
-        Ok(rec) => Ok(Redirect::to(&format!("/samples/{}", rec.id)).into_response()),
+        Ok(rec) => {
+            saved_from_draft(&st, &typed, &rec.id).await?;
+            Ok(Redirect::to(&format!("/samples/{}", rec.id)).into_response())
+        }
         Err(WriteError::CodeTaken { project, .. }) => {
             let next = suggest(&st, &project).await?;
             let errors =
@@ -1004,6 +1012,17 @@ async fn create(
         }
         Err(e) => Err(write_page_error(e)),
     }
+}
+
+/// Records on the draft the form came from (if any) that it was saved as
+/// this sample, for the drafts list. A stale or unknown draft id is ignored:
+/// the sample is saved either way.
+async fn saved_from_draft(st: &AppState, typed: &Typed, sample_id: &str) -> PageResult<()> {
+    let draft = typed.draft.trim();
+    if uuid::Uuid::try_parse(draft).is_ok() {
+        drafts::mark_saved(&st.db, draft, sample_id).await?;
+    }
+    Ok(())
 }
 
 /// Turns the write refusals a page does not handle itself into pages.
@@ -1286,6 +1305,7 @@ async fn from_draft(st: &AppState, draft: &str, v: &mut Typed) -> PageResult<()>
     if let Some(s) = d.observations.setting {
         v.setting = s.as_str().to_string();
     }
+    v.draft = d.id.clone();
     v.observations = if d.observations.is_empty() {
         String::new()
     } else {
@@ -1406,7 +1426,10 @@ async fn edit(
     )
     .await;
     match saved {
-        Ok(rec) => Ok(Redirect::to(&format!("/samples/{}", rec.id)).into_response()),
+        Ok(rec) => {
+            saved_from_draft(&st, &typed, &rec.id).await?;
+            Ok(Redirect::to(&format!("/samples/{}", rec.id)).into_response())
+        }
         Err(WriteError::Stale { current, .. }) => {
             let page = stale_page(&st, &csrf, &current, expected, typed).await?;
             Ok((StatusCode::CONFLICT, page).into_response())

@@ -297,7 +297,8 @@ pub struct QuestionView {
     pub inputs: Inputs,
     /// A refusal to show beside the inputs.
     pub error: Option<String>,
-    /// Expected information gain, for people ("0.42 bits"), if known.
+    /// What the test is expected to tell, as a sentence, if known: see
+    /// [`gain_words`].
     pub gain: Option<String>,
 }
 
@@ -515,6 +516,40 @@ pub fn question(
         how: p.how(),
         inputs,
         error,
-        gain: gain.map(|g| format!("{g:.2} bits")),
+        gain: gain.map(gain_words),
+    }
+}
+
+/// An expected gain in words. Below [`super::flow::STOP_GAIN_BITS`], or
+/// whenever the figure would print as 0.00, a number would only look
+/// precise: the page says in words that the answer is unlikely to change.
+pub fn gain_words(bits: f64) -> String {
+    let figure = format!("{bits:.2}");
+    if bits < super::flow::STOP_GAIN_BITS || figure == "0.00" {
+        "This test is unlikely to change the answer for this specimen.".to_string()
+    } else {
+        format!("Expected to tell about {figure} bits for this specimen.")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_small_gain_is_said_in_words_and_never_as_zero_bits() {
+        for bits in [0.0, 0.004, 0.005, 0.02, 0.0499] {
+            let w = gain_words(bits);
+            assert!(w.contains("unlikely to change the answer"), "{bits}: {w}");
+            assert!(!w.contains("bits"), "{bits}: {w}");
+        }
+        assert_eq!(
+            gain_words(0.05),
+            "Expected to tell about 0.05 bits for this specimen."
+        );
+        assert_eq!(
+            gain_words(0.4213),
+            "Expected to tell about 0.42 bits for this specimen."
+        );
     }
 }

@@ -202,6 +202,23 @@ async fn white_micas_are_said_to_need_the_laboratory() {
 }
 
 #[tokio::test]
+async fn talc_and_pyrophyllite_are_said_to_have_no_hand_test_and_no_weak_table() {
+    // Pyrophyllite cannot be told from talc in hand specimen; XRD or the
+    // cobalt nitrate test does (Klein & Dutrow, Manual of Mineral Science,
+    // pyrophyllite; from memory). The tests offered follow the results
+    // page's rule (engine::lookalikes::contrast), so no "weak" table either.
+    let app = TestApp::new().await;
+    let body = app.get("/minerals/talc").await.text();
+    let at = body
+        .find(r#"<a href="/minerals/pyrophyllite">Pyrophyllite</a>"#)
+        .expect("pyrophyllite is talc's lookalike");
+    let section = &body[at..at + body[at..].find("</section>").expect("section end")];
+    assert!(section.contains("No hand test separates Talc from Pyrophyllite well."));
+    assert!(section.contains("cobalt nitrate"), "{section}");
+    assert!(!section.contains("<table"), "{section}");
+}
+
+#[tokio::test]
 async fn chrysotile_shows_the_asbestos_caution() {
     // Arrange
     let app = TestApp::new().await;

@@ -627,10 +627,10 @@ async fn saving_from_the_results_carries_the_observations_and_the_leader() {
     let app = TestApp::new().await;
     let mut s = Session::new(&app);
     // An identification in the flow (typical chlorite answers, from memory).
-    let start = s.get("/identify").await.text();
-    let at = start.find("action=\"/identify/").expect("a draft form") + "action=\"/identify/".len();
-    let draft = start[at..at + 36].to_string();
-    let url = format!("/identify/{draft}");
+    // The start page stores nothing; its form's POST creates the draft.
+    s.get("/identify").await;
+    let url = s.submit("/identify", "").await.location();
+    let draft = url["/identify/".len()..].to_string();
     for fields in [
         "question=setting&setting=greenschist",
         "question=cleavage&cleavage=one_perfect",
