@@ -206,9 +206,7 @@ const SERVICE_SET: [&str; 7] = [
 /// The fields of a sample record a client writes, as the strict object
 /// parser (`samples::SampleInput`) and `SampleInput::validate` read them.
 fn sample_fields() -> serde_json::Map<String, Value> {
-    let text = |max: usize, what: &str| {
-        json!({ "type": ["string", "null"], "maxLength": max, "description": format!("{what} Trimmed; empty is left out; one line, no control or bidirectional characters.") })
-    };
+    let text = |max: usize, what: &str| json!({ "type": ["string", "null"], "maxLength": max, "description": format!("{what} Trimmed; empty is left out; one line, no control or bidirectional characters.") });
     let props = json!({
         "project": { "type": ["string", "null"], "pattern": "^[a-z0-9][a-z0-9_-]{0,15}$", "description": "An existing project's code; default when left out." },
         "sample_code": { "type": "string", "minLength": 1, "maxLength": crate::samples::MAX_SAMPLE_CODE, "description": "Unique within the project; one line, no control or bidirectional characters." },
@@ -259,13 +257,31 @@ fn sample_replace_schema() -> Value {
     let mut props = sample_fields();
     let unchanged = "Set by the service: accepted only when it equals the stored record's.";
     for (name, schema) in [
-        ("revision", json!({ "type": "integer", "minimum": 1, "description": "The revision the change starts from; required." })),
-        ("id", json!({ "type": ["string", "null"], "description": "Must equal the id in the URL." })),
-        ("created_at", json!({ "type": ["string", "null"], "description": unchanged })),
-        ("updated_at", json!({ "type": ["string", "null"], "description": unchanged })),
+        (
+            "revision",
+            json!({ "type": "integer", "minimum": 1, "description": "The revision the change starts from; required." }),
+        ),
+        (
+            "id",
+            json!({ "type": ["string", "null"], "description": "Must equal the id in the URL." }),
+        ),
+        (
+            "created_at",
+            json!({ "type": ["string", "null"], "description": unchanged }),
+        ),
+        (
+            "updated_at",
+            json!({ "type": ["string", "null"], "description": unchanged }),
+        ),
         ("identification", json!({ "description": unchanged })),
-        ("base_version", json!({ "type": ["string", "null"], "description": unchanged })),
-        ("deleted", json!({ "type": ["boolean", "null"], "description": unchanged })),
+        (
+            "base_version",
+            json!({ "type": ["string", "null"], "description": unchanged }),
+        ),
+        (
+            "deleted",
+            json!({ "type": ["boolean", "null"], "description": unchanged }),
+        ),
     ] {
         props.insert(name.to_string(), schema);
     }
@@ -383,11 +399,20 @@ fn with_common_answers(method: &str, op: &mut Value) {
             .entry(status.to_string())
             .or_insert_with(|| error_response(what));
     };
-    add("421", "The Host header names a host this service does not accept (--public-host adds one).");
+    add(
+        "421",
+        "The Host header names a host this service does not accept (--public-host adds one).",
+    );
     add("408", "The request was not answered within 30 seconds.");
-    add("500", "A fault of the service; nothing was changed and the body shows no internals.");
+    add(
+        "500",
+        "A fault of the service; nothing was changed and the body shows no internals.",
+    );
     if method != "get" {
-        add("403", "Sent from another site (Sec-Fetch-Site: cross-site, a foreign or null Origin); nothing was changed.");
+        add(
+            "403",
+            "Sent from another site (Sec-Fetch-Site: cross-site, a foreign or null Origin); nothing was changed.",
+        );
         add("413", "The body is larger than 64 KiB.");
         add("415", "A body not sent as application/json.");
     }

@@ -878,7 +878,10 @@ async fn a_create_with_a_field_the_service_sets_is_refused_by_the_service_and_th
     let app = TestApp::new().await;
     let doc = openapi(&app).await;
     for (field, value) in [
-        ("id", serde_json::json!("00000000-0000-4000-8000-000000000000")),
+        (
+            "id",
+            serde_json::json!("00000000-0000-4000-8000-000000000000"),
+        ),
         ("created_at", serde_json::json!("2026-01-01T00:00:00Z")),
         ("updated_at", serde_json::json!("2026-01-01T00:00:00Z")),
         ("revision", serde_json::json!(1)),
@@ -920,7 +923,10 @@ async fn a_create_with_a_field_the_service_sets_is_refused_by_the_service_and_th
     assert_eq!(r.json()["error"]["field"], "created_at");
     // Without a revision the description and the service both refuse it.
     let mut no_rev = rec.clone();
-    no_rev.as_object_mut().expect("an object").remove("revision");
+    no_rev
+        .as_object_mut()
+        .expect("an object")
+        .remove("revision");
     assert!(!validate(&doc, "SampleReplace", &no_rev).is_empty());
     let r = app
         .put_json(&format!("/api/v1/samples/{id}"), &no_rev.to_string())
@@ -943,12 +949,18 @@ async fn a_project_edit_body_and_its_answers_validate_against_the_description() 
     body["name"] = serde_json::json!("Ridge survey");
     body["code_scheme"] = serde_json::json!("RS-{yy}-{seq:3}");
     assert_valid(&doc, "ProjectInput", &body);
-    let r = app.put_json("/api/v1/projects/default", &body.to_string()).await;
+    let r = app
+        .put_json("/api/v1/projects/default", &body.to_string())
+        .await;
     // Assert
     assert_eq!(r.status, StatusCode::OK, "{}", r.text());
     assert_valid(&doc, "Project", &r.json());
     assert_eq!(r.json()["name"], "Ridge survey");
-    assert_valid(&doc, "ProjectList", &app.get("/api/v1/projects").await.json());
+    assert_valid(
+        &doc,
+        "ProjectList",
+        &app.get("/api/v1/projects").await.json(),
+    );
     let r = app.get("/api/v1/projects/nope").await;
     assert_eq!(r.status, StatusCode::NOT_FOUND);
     assert_valid(&doc, "ErrorBody", &r.json());
@@ -966,14 +978,18 @@ async fn a_project_edit_body_and_its_answers_validate_against_the_description() 
             !validate(&doc, "ProjectInput", &bad).is_empty(),
             "the description accepts {bad}"
         );
-        let r = app.put_json("/api/v1/projects/default", &bad.to_string()).await;
+        let r = app
+            .put_json("/api/v1/projects/default", &bad.to_string())
+            .await;
         assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{bad}");
         assert_valid(&doc, "ErrorBody", &r.json());
     }
     // A read-only field sent changed is refused by name.
     let mut changed = got.clone();
     changed["code"] = serde_json::json!("other");
-    let r = app.put_json("/api/v1/projects/default", &changed.to_string()).await;
+    let r = app
+        .put_json("/api/v1/projects/default", &changed.to_string())
+        .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(r.json()["error"]["field"], "code");
 }
@@ -1009,6 +1025,14 @@ async fn every_write_of_the_description_names_the_refusals_of_the_edge() {
     let r = app.send(req).await;
     assert_eq!(r.status, StatusCode::FORBIDDEN);
     assert_valid(&doc, "ErrorBody", &r.json());
+    let message = r.json()["error"]["message"]
+        .as_str()
+        .expect("a message")
+        .to_string();
+    assert!(
+        message.contains("another site") && !message.contains("  "),
+        "the refusal reads as one sentence: {message:?}"
+    );
     let req = Request::put("/api/v1/projects/default")
         .header("content-type", "text/plain")
         .body(Body::from(r#"{"name":"A","code_scheme":"{seq:4}"}"#))
