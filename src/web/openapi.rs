@@ -213,7 +213,7 @@ fn sample_fields() -> serde_json::Map<String, Value> {
         "collected_on": { "type": ["string", "null"], "format": "date", "description": "YYYY-MM-DD, not after today in the service's time zone." },
         "collector": text(crate::samples::MAX_SHORT_TEXT, "Who collected it."),
         "station": text(crate::samples::MAX_SHORT_TEXT, "Station or outcrop label."),
-        "latitude": { "type": ["number", "null"], "minimum": -90, "maximum": 90, "description": "WGS 84 decimal degrees." },
+        "latitude": { "type": ["number", "null"], "minimum": -90, "maximum": 90, "description": "WGS 84 decimal degrees; with longitude, or neither." },
         "longitude": { "type": ["number", "null"], "minimum": -180, "maximum": 180, "description": "WGS 84 decimal degrees." },
         "coordinate_uncertainty_m": { "type": ["number", "null"], "exclusiveMinimum": 0, "maximum": crate::samples::MAX_UNCERTAINTY_M },
         "setting": nullable(enum_ref("Setting")),
