@@ -93,7 +93,7 @@ fn refuse_api_write(method: &Method, headers: &HeaderMap) -> Option<Response> {
                 axum::http::StatusCode::FORBIDDEN,
                 FieldError::new(
                     "",
-                    "this request came from another site (its Origin or Sec-Fetch-Site says so), and other sites                      may not use basal's API; nothing was changed. Send it from a program (curl, a script), which                      sends no Origin, or use basal's own pages",
+                    "this request came from another site (its Origin or Sec-Fetch-Site says so), and other sites may not use basal's API; nothing was changed. Send it from a program (curl, a script), which sends no Origin, or use basal's own pages",
                 ),
             )
             .into_response(),

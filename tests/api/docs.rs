@@ -378,6 +378,14 @@ fn the_reference_lists_every_export_column_and_start_up_option() {
         "`basal demo`",
         "`basal backup PATH`",
         "`basal import FILE",
+        "`--name NAME`",
+        "`--scheme SCHEME`",
+        "`--time-zone NAME`",
+        "`BASAL_TZ`",
+        "`--public-host NAME`",
+        "`BASAL_PUBLIC_HOST`",
+        "`--allow-anyone-on-the-network`",
+        "`BASAL_ALLOW_ANYONE_ON_THE_NETWORK`",
     ] {
         assert!(doc.contains(opt), "docs/api.md lacks {opt}");
     }
@@ -781,10 +789,12 @@ async fn a_sample_body_and_every_sample_answer_validate_against_the_description(
     let got = app.get(&format!("/api/v1/samples/{id}")).await.json();
     assert_valid(&doc, "SampleRecord", &got);
     assert_valid(&doc, "SamplePage", &app.get("/api/v1/samples").await.json());
-    // A fetched record sent back whole is a valid update body.
+    // A fetched record sent back whole is a valid update body, and not a
+    // valid create body (it carries the fields the service sets).
     let mut back = got.clone();
     back["notes"] = serde_json::json!("re-read under the lens");
-    assert_valid(&doc, "SampleInput", &back);
+    assert_valid(&doc, "SampleReplace", &back);
+    assert!(!validate(&doc, "SampleInput", &back).is_empty());
     let r = app
         .put_json(&format!("/api/v1/samples/{id}"), &back.to_string())
         .await;
@@ -860,4 +870,183 @@ async fn every_reference_in_the_description_resolves() {
     let mut refs = 0;
     walk(&doc, schemas, &mut refs);
     assert!(refs > 20, "only {refs} references");
+}
+
+#[tokio::test]
+async fn a_create_with_a_field_the_service_sets_is_refused_by_the_service_and_the_description() {
+    // Arrange
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    for (field, value) in [
+        (
+            "id",
+            serde_json::json!("00000000-0000-4000-8000-000000000000"),
+        ),
+        ("created_at", serde_json::json!("2026-01-01T00:00:00Z")),
+        ("updated_at", serde_json::json!("2026-01-01T00:00:00Z")),
+        ("revision", serde_json::json!(1)),
+        ("identification", serde_json::json!({})),
+        ("base_version", serde_json::json!("x")),
+        ("deleted", serde_json::json!(false)),
+    ] {
+        let mut body = serde_json::json!({"sample_code": format!("SV-{field}")});
+        body[field] = value;
+        // Act
+        let r = app.post_json("/api/v1/samples", &body.to_string()).await;
+        // Assert
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{body}");
+        assert_eq!(r.json()["error"]["field"], field, "{body}");
+        assert_valid(&doc, "ErrorBody", &r.json());
+        assert!(
+            !validate(&doc, "SampleInput", &body).is_empty(),
+            "the description accepts {body}"
+        );
+        // null is "left out", for the service and the description alike.
+        body[field] = serde_json::Value::Null;
+        assert_valid(&doc, "SampleInput", &body);
+        let r = app.post_json("/api/v1/samples", &body.to_string()).await;
+        assert_eq!(r.status, StatusCode::CREATED, "{body}: {}", r.text());
+    }
+    // A read-only field that differs on PUT is refused by name.
+    let rec = app
+        .post_json("/api/v1/samples", r#"{"sample_code":"SV-put"}"#)
+        .await
+        .json();
+    let id = rec["id"].as_str().expect("an id").to_string();
+    let mut back = rec.clone();
+    back["created_at"] = serde_json::json!("2001-01-01T00:00:00Z");
+    assert_valid(&doc, "SampleReplace", &back);
+    let r = app
+        .put_json(&format!("/api/v1/samples/{id}"), &back.to_string())
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.text());
+    assert_eq!(r.json()["error"]["field"], "created_at");
+    // Without a revision the description and the service both refuse it.
+    let mut no_rev = rec.clone();
+    no_rev
+        .as_object_mut()
+        .expect("an object")
+        .remove("revision");
+    assert!(!validate(&doc, "SampleReplace", &no_rev).is_empty());
+    let r = app
+        .put_json(&format!("/api/v1/samples/{id}"), &no_rev.to_string())
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(r.json()["error"]["field"], "revision");
+}
+
+#[tokio::test]
+async fn a_project_edit_body_and_its_answers_validate_against_the_description() {
+    // Arrange
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    let got = app.get("/api/v1/projects/default").await;
+    assert_eq!(got.status, StatusCode::OK);
+    let got = got.json();
+    assert_valid(&doc, "Project", &got);
+    // Act: the fetched project sent back with a new name and scheme.
+    let mut body = got.clone();
+    body["name"] = serde_json::json!("Ridge survey");
+    body["code_scheme"] = serde_json::json!("RS-{yy}-{seq:3}");
+    assert_valid(&doc, "ProjectInput", &body);
+    let r = app
+        .put_json("/api/v1/projects/default", &body.to_string())
+        .await;
+    // Assert
+    assert_eq!(r.status, StatusCode::OK, "{}", r.text());
+    assert_valid(&doc, "Project", &r.json());
+    assert_eq!(r.json()["name"], "Ridge survey");
+    assert_valid(
+        &doc,
+        "ProjectList",
+        &app.get("/api/v1/projects").await.json(),
+    );
+    let r = app.get("/api/v1/projects/nope").await;
+    assert_eq!(r.status, StatusCode::NOT_FOUND);
+    assert_valid(&doc, "ErrorBody", &r.json());
+    // What the service refuses, the description refuses too.
+    for bad in [
+        serde_json::json!({"name": "A"}),
+        serde_json::json!({"code_scheme": "{seq:4}"}),
+        serde_json::json!({"name": "A", "code_scheme": "{seq:4}", "colour": "red"}),
+        serde_json::json!({"name": 5, "code_scheme": "{seq:4}"}),
+        serde_json::json!({"name": "", "code_scheme": "{seq:4}"}),
+        serde_json::json!({"name": "A", "code_scheme": "x".repeat(41)}),
+        serde_json::json!([]),
+    ] {
+        assert!(
+            !validate(&doc, "ProjectInput", &bad).is_empty(),
+            "the description accepts {bad}"
+        );
+        let r = app
+            .put_json("/api/v1/projects/default", &bad.to_string())
+            .await;
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{bad}");
+        assert_valid(&doc, "ErrorBody", &r.json());
+    }
+    // A read-only field sent changed is refused by name.
+    let mut changed = got.clone();
+    changed["code"] = serde_json::json!("other");
+    let r = app
+        .put_json("/api/v1/projects/default", &changed.to_string())
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(r.json()["error"]["field"], "code");
+}
+
+#[tokio::test]
+async fn every_write_of_the_description_names_the_refusals_of_the_edge() {
+    // The layers in front of the handlers answer these whatever the route;
+    // the description must say so for each operation.
+    let app = TestApp::new().await;
+    let doc = openapi(&app).await;
+    for (path, item) in doc["paths"].as_object().expect("paths") {
+        for (method, op) in item.as_object().expect("a path item") {
+            let responses = op["responses"].as_object().expect("responses");
+            let mut expected = vec!["421", "408", "500"];
+            if method != "get" {
+                expected.extend(["403", "413", "415"]);
+            }
+            for status in expected {
+                assert!(
+                    responses.contains_key(status),
+                    "{method} {path} does not list {status}"
+                );
+            }
+        }
+    }
+    // And the service does answer them: a cross-site write is 403 with
+    // the error shape, a text body 415.
+    let req = Request::put("/api/v1/projects/default")
+        .header("content-type", "application/json")
+        .header("sec-fetch-site", "cross-site")
+        .body(Body::from(r#"{"name":"A","code_scheme":"{seq:4}"}"#))
+        .expect("a request");
+    let r = app.send(req).await;
+    assert_eq!(r.status, StatusCode::FORBIDDEN);
+    assert_valid(&doc, "ErrorBody", &r.json());
+    let message = r.json()["error"]["message"]
+        .as_str()
+        .expect("a message")
+        .to_string();
+    assert!(
+        message.contains("another site") && !message.contains("  "),
+        "the refusal reads as one sentence: {message:?}"
+    );
+    let req = Request::put("/api/v1/projects/default")
+        .header("content-type", "text/plain")
+        .body(Body::from(r#"{"name":"A","code_scheme":"{seq:4}"}"#))
+        .expect("a request");
+    let r = app.send(req).await;
+    assert_eq!(r.status, StatusCode::UNSUPPORTED_MEDIA_TYPE);
+    assert_valid(&doc, "ErrorBody", &r.json());
+    // A list parameter given twice is 400, as the description says.
+    let r = app.get("/api/v1/samples?limit=1&limit=2").await;
+    assert_eq!(r.status, StatusCode::BAD_REQUEST);
+    assert_valid(&doc, "ErrorBody", &r.json());
+    assert!(
+        doc["paths"]["/api/v1/samples"]["get"]["responses"]
+            .get("400")
+            .is_some()
+    );
 }
