@@ -41,6 +41,9 @@ pub fn body_limit(path: &str) -> usize {
         super::api::BODY_LIMIT
     } else if path == "/samples/import" {
         super::log_admin::UPLOAD_LIMIT
+    } else if path == "/identify" || path.starts_with("/identify/") {
+        // The questioning forms take what the JSON API takes.
+        super::flow::FORM_LIMIT
     } else {
         FORM_LIMIT
     }

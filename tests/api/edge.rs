@@ -387,6 +387,27 @@ async fn a_declared_length_over_the_limit_is_refused_at_once() {
     assert_eq!(page.status, StatusCode::PAYLOAD_TOO_LARGE);
     assert!(is_html(&page), "an error page");
     assert!(page.text().contains("2 MiB"), "{}", page.text());
+    // The questioning forms are limited like the JSON API (64 KiB), and a
+    // declared length over that is refused at once with that figure.
+    for path in [
+        "/identify",
+        "/identify/00000000-0000-4000-8000-000000000000",
+    ] {
+        let page = send(
+            &app,
+            Method::POST,
+            path,
+            &[
+                ("content-type", "application/x-www-form-urlencoded"),
+                ("content-length", "100000"),
+            ],
+            Body::empty(),
+        )
+        .await;
+        assert_eq!(page.status, StatusCode::PAYLOAD_TOO_LARGE, "{path}");
+        assert!(is_html(&page), "{path}: an error page");
+        assert!(page.text().contains("64 KiB"), "{path}: {}", page.text());
+    }
 }
 
 // ------------------------------------------------------------ bare answers
