@@ -1286,7 +1286,7 @@ async fn edit_page(
 async fn from_draft(st: &AppState, draft: &str, v: &mut Typed) -> PageResult<()> {
     let missing = || {
         PageError::NotFound(format!(
-            "There is no identification {draft} to take the observations from: it may have been discarded. Open drafts are listed at /identify/drafts."
+            "There is no identification {draft} to take the observations from: it may have been discarded. Unfinished identifications are listed at /identify/drafts."
         ))
     };
     if uuid::Uuid::try_parse(draft).is_err() {
