@@ -115,8 +115,10 @@ async fn the_list_page_links_every_entry_of_the_base() {
         "{}",
         sheet.citation
     );
-    // Chrysotile is tagged with its hazard in the list.
-    assert!(body.contains("asbestiform fibres"));
+    // Chrysotile is tagged with its hazard in the list, under the one name
+    // and class the results and mineral pages use.
+    assert!(body.contains(r#"<span class="tag tag-hazard hazard-asbestos">Asbestos mineral</span>"#));
+    assert!(!body.contains("asbestiform fibres"));
 }
 
 #[tokio::test]
@@ -227,8 +229,9 @@ async fn chrysotile_shows_the_asbestos_caution() {
     // Assert
     assert_eq!(r.status, StatusCode::OK);
     let body = r.text();
-    assert!(body.contains(r#"<aside class="caution""#));
-    assert!(body.contains("Caution: asbestos mineral"));
+    assert!(body.contains(r#"<aside class="caution hazard-asbestos""#));
+    assert!(body.contains("Asbestos mineral"));
+    assert!(!body.contains("Caution: asbestos mineral"));
     for words in [
         "Do not break, scrape, grind or saw it dry",
         "Wet it, seal it in a labelled bag",
