@@ -369,7 +369,7 @@ pub struct MineralPage {
 fn hazard_tag(h: Hazard) -> (&'static str, &'static str) {
     match h {
         Hazard::Asbestos => (crate::web::views::ASBESTOS_HEADING, "asbestos"),
-        Hazard::Dust => (h.label(), "dust"),
+        Hazard::Dust => (crate::web::views::DUST_HEADING, "dust"),
     }
 }
 
@@ -381,7 +381,7 @@ fn caution_for(h: Hazard) -> CautionView {
             code: "asbestos",
         },
         Hazard::Dust => CautionView {
-            heading: "Caution: fine dust",
+            heading: crate::web::views::DUST_HEADING,
             text: cautions::DUST,
             code: "dust",
         },

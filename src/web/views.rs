@@ -189,6 +189,9 @@ pub struct CautionView {
 /// panel, the record page, the mineral pages and the mineral list.
 pub const ASBESTOS_HEADING: &str = "Asbestos mineral";
 
+/// The one name of the fine-dust hazard (results and mineral pages).
+pub const DUST_HEADING: &str = "Fine dust";
+
 /// The cautions of an identification.
 pub fn cautions(id: &Identification) -> Vec<CautionView> {
     id.cautions
@@ -197,7 +200,7 @@ pub fn cautions(id: &Identification) -> Vec<CautionView> {
             let (heading, code) = match c.code {
                 CautionCode::Asbestos => (ASBESTOS_HEADING, "asbestos"),
                 CautionCode::Acid => ("Acid", "acid"),
-                CautionCode::Dust => ("Dust", "dust"),
+                CautionCode::Dust => (DUST_HEADING, "dust"),
             };
             CautionView {
                 heading,

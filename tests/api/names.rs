@@ -191,8 +191,11 @@ async fn every_page_uses_the_one_name_for_each_thing() {
         ),
         row(
             "/minerals",
-            &[r#"<span class="tag tag-hazard hazard-asbestos">Asbestos mineral</span>"#],
-            &["asbestiform fibres"],
+            &[
+                r#"<span class="tag tag-hazard hazard-asbestos">Asbestos mineral</span>"#,
+                r#"<span class="tag tag-hazard hazard-dust">Fine dust</span>"#,
+            ],
+            &["asbestiform fibres", "respirable dust"],
         ),
         row(
             "/minerals/chrysotile",
@@ -202,6 +205,11 @@ async fn every_page_uses_the_one_name_for_each_thing() {
                 "Other names: white asbestos; serpentine asbestos.",
             ],
             &["Caution: asbestos mineral", "Also logged under this name"],
+        ),
+        row(
+            "/minerals/talc",
+            &[r#"<aside class="caution hazard-dust""#, "Fine dust</h2>"],
+            &["Caution: fine dust"],
         ),
         Row {
             uri: format!("/identify/{missing}"),

@@ -168,8 +168,9 @@ async fn a_mineral_page_shows_formula_composition_sources_and_lookalikes() {
     assert!(body.contains(r#"<a href="/minerals/pyrophyllite">Pyrophyllite</a>"#));
     assert!(body.contains("Nearest lookalikes"));
     // Talc carries the dust caution, not the asbestos one.
-    assert!(body.contains("Caution: fine dust"));
-    assert!(!body.contains("Caution: asbestos"));
+    assert!(body.contains(r#"<aside class="caution hazard-dust""#));
+    assert!(body.contains("Fine dust</h2>"));
+    assert!(!body.contains("hazard-asbestos"));
 }
 
 #[tokio::test]
@@ -241,7 +242,7 @@ async fn chrysotile_shows_the_asbestos_caution() {
         assert!(body.contains(words), "caution lacks {words:?}");
     }
     // The caution comes before the properties.
-    let caution = body.find("Caution: asbestos").unwrap_or(usize::MAX);
+    let caution = body.find("Asbestos mineral</h2>").unwrap_or(usize::MAX);
     let props = body.find("id=\"properties\"").unwrap_or(0);
     assert!(caution < props);
 }
