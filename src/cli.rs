@@ -444,13 +444,28 @@ mod tests {
     #[test]
     fn import_takes_changed_by_and_still_the_old_author() {
         let (who, help) = import_changed_by(&[
-            "basal", "import", "x.csv", "--project", "P", "--changed-by", "Crew A",
+            "basal",
+            "import",
+            "x.csv",
+            "--project",
+            "P",
+            "--changed-by",
+            "Crew A",
         ]);
         assert_eq!(who.as_deref(), Some("Crew A"));
         assert!(help.contains("--changed-by"), "{help}");
-        assert!(!help.contains("--author <"), "the old name stays hidden: {help}");
+        assert!(
+            !help.contains("--author <"),
+            "the old name stays hidden: {help}"
+        );
         let (who, _) = import_changed_by(&[
-            "basal", "import", "x.csv", "--project", "P", "--author", "Crew B",
+            "basal",
+            "import",
+            "x.csv",
+            "--project",
+            "P",
+            "--author",
+            "Crew B",
         ]);
         assert_eq!(who.as_deref(), Some("Crew B"), "old scripts keep working");
     }

@@ -703,10 +703,7 @@ async fn results(
 fn results_title(top: &[CandidateView], draft: &str) -> String {
     let short: String = draft.chars().take(8).collect();
     match top.first() {
-        Some(c) => format!(
-            "{} {} · identification {short}…",
-            c.bar.name, c.bar.percent
-        ),
+        Some(c) => format!("{} {} · identification {short}…", c.bar.name, c.bar.percent),
         None => format!("Identification {short}…"),
     }
 }

@@ -112,7 +112,12 @@ async fn every_page_uses_the_one_name_for_each_thing() {
         ),
         row(
             format!("/identify/{draft}?ask=cleavage"),
-            &[ONE_FORM, "Leading candidates", "hazard-asbestos", "Asbestos mineral"],
+            &[
+                ONE_FORM,
+                "Leading candidates",
+                "hazard-asbestos",
+                "Asbestos mineral",
+            ],
             &[OLD_ONE_FORM[0], "Possible asbestos"],
         ),
         row(
@@ -131,7 +136,11 @@ async fn every_page_uses_the_one_name_for_each_thing() {
                 "Asbestos mineral",
                 r#"class="caution caution-asbestos hazard-asbestos""#,
             ],
-            &[OLD_ONE_FORM[2], "Possible asbestos", "<title>Results · basal</title>"],
+            &[
+                OLD_ONE_FORM[2],
+                "Possible asbestos",
+                "<title>Results · basal</title>",
+            ],
         ),
         row(
             "/identify/drafts",
@@ -143,7 +152,10 @@ async fn every_page_uses_the_one_name_for_each_thing() {
         ),
         row(
             format!("/identify/{draft}?ask=diaphaneity"),
-            &["Does light pass through a thin edge?", "<legend>Diaphaneity</legend>"],
+            &[
+                "Does light pass through a thin edge?",
+                "<legend>Diaphaneity</legend>",
+            ],
             &["thin flake?"],
         ),
         row(
@@ -187,7 +199,11 @@ async fn every_page_uses_the_one_name_for_each_thing() {
                 "<label>Project code <input",
                 ">sample log</a>",
             ],
-            &[">history</a>", r#"<th scope="col">Code</th>"#, "<label>Code <input"],
+            &[
+                ">history</a>",
+                r#"<th scope="col">Code</th>"#,
+                "<label>Code <input",
+            ],
         ),
         row(
             "/minerals",
@@ -257,9 +273,11 @@ async fn the_results_page_is_titled_with_the_leader_and_the_identification() {
     let draft = asbestiform(&mut s).await;
     let html = s.get(&format!("/identify/{draft}/results")).await.text();
     // The first candidate on the page is the leader.
-    let at = html.find(r#"class="cand-name">"#).expect("a candidate") + r#"class="cand-name">"#.len();
+    let at =
+        html.find(r#"class="cand-name">"#).expect("a candidate") + r#"class="cand-name">"#.len();
     let leader = &html[at..at + html[at..].find('<').expect("the name ends")];
-    let pct_at = html.find(r#"<span class="bar-pct">"#).expect("a percent") + r#"<span class="bar-pct">"#.len();
+    let pct_at = html.find(r#"<span class="bar-pct">"#).expect("a percent")
+        + r#"<span class="bar-pct">"#.len();
     let pct = &html[pct_at..pct_at + html[pct_at..].find('<').expect("the percent ends")];
     assert_eq!(leader, "Chrysotile", "the fibrous specimen's leader");
     assert_eq!(
@@ -293,7 +311,9 @@ async fn asbestos_carries_one_name_and_one_class_on_every_page() {
         css.contains(".caution.hazard-asbestos { background: var(--danger-bg); border-color: var(--danger-line);"),
         "{css}"
     );
-    assert!(css.contains(".tag.hazard-asbestos { background: var(--danger-bg); border-color: var(--danger-line);"));
+    assert!(css.contains(
+        ".tag.hazard-asbestos { background: var(--danger-bg); border-color: var(--danger-line);"
+    ));
 }
 
 #[tokio::test]
@@ -303,8 +323,14 @@ async fn the_source_kinds_differ_by_border_and_the_page_says_what_each_means() {
     assert!(html.contains(r#"<dl class="src-legend""#));
     for (class, meaning) in [
         ("src-handbook", "read in the cited reference (solid border)"),
-        ("src-practice", "a rule of thumb of field work (dashed border)"),
-        ("src-memory", "recalled without a copy at hand; the first to review (dotted border)"),
+        (
+            "src-practice",
+            "a rule of thumb of field work (dashed border)",
+        ),
+        (
+            "src-memory",
+            "recalled without a copy at hand; the first to review (dotted border)",
+        ),
     ] {
         assert!(html.contains(&format!(r#"class="src {class}""#)), "{class}");
         assert!(html.contains(meaning), "{meaning}");
@@ -317,6 +343,9 @@ async fn the_source_kinds_differ_by_border_and_the_page_says_what_each_means() {
     for class in ["src-handbook", "src-practice", "src-memory"] {
         let rule_at = css.find(&format!(".{class} {{")).expect(class);
         let rule = &css[rule_at..rule_at + css[rule_at..].find('}').expect("rule ends")];
-        assert!(!rule.contains("color") && !rule.contains("background"), "{rule}");
+        assert!(
+            !rule.contains("color") && !rule.contains("background"),
+            "{rule}"
+        );
     }
 }

@@ -117,7 +117,9 @@ async fn the_list_page_links_every_entry_of_the_base() {
     );
     // Chrysotile is tagged with its hazard in the list, under the one name
     // and class the results and mineral pages use.
-    assert!(body.contains(r#"<span class="tag tag-hazard hazard-asbestos">Asbestos mineral</span>"#));
+    assert!(
+        body.contains(r#"<span class="tag tag-hazard hazard-asbestos">Asbestos mineral</span>"#)
+    );
     assert!(!body.contains("asbestiform fibres"));
 }
 
