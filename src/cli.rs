@@ -51,9 +51,10 @@ pub enum Command {
         /// Check and report only; write nothing.
         #[arg(long)]
         dry_run: bool,
-        /// Who makes the import, for the records' history.
-        #[arg(long)]
-        author: Option<String>,
+        /// Who makes the import: the "changed by" of each record's first
+        /// revision. `--author`, its earlier name, still works (hidden).
+        #[arg(long = "changed-by", alias = "author", value_name = "NAME")]
+        changed_by: Option<String>,
         /// The sample-code scheme of a project the import creates (default
         /// {seq:4}); refused when the project exists with another.
         #[arg(long)]
@@ -416,6 +417,7 @@ pub async fn demo(config: &Config) -> Result<usize, CommandError> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use clap::CommandFactory;
 
     #[test]
     fn no_arguments_means_serve_on_the_defaults() {
@@ -424,6 +426,48 @@ mod tests {
         let cfg = cli.serve.config();
         assert_eq!(cfg.listen.to_string(), "127.0.0.1:8080");
         assert!(cfg.db.ends_with("basal/basal.sqlite"), "{:?}", cfg.db);
+    }
+
+    fn import_changed_by(args: &[&str]) -> (Option<String>, String) {
+        let cli = Cli::try_parse_from(args).expect("parses");
+        let Some(Command::Import { changed_by, .. }) = cli.command else {
+            panic!("not an import: {args:?}");
+        };
+        let help = Cli::command()
+            .find_subcommand_mut("import")
+            .expect("import subcommand")
+            .render_long_help()
+            .to_string();
+        (changed_by, help)
+    }
+
+    #[test]
+    fn import_takes_changed_by_and_still_the_old_author() {
+        let (who, help) = import_changed_by(&[
+            "basal",
+            "import",
+            "x.csv",
+            "--project",
+            "P",
+            "--changed-by",
+            "Crew A",
+        ]);
+        assert_eq!(who.as_deref(), Some("Crew A"));
+        assert!(help.contains("--changed-by"), "{help}");
+        assert!(
+            !help.contains("--author <"),
+            "the old name stays hidden: {help}"
+        );
+        let (who, _) = import_changed_by(&[
+            "basal",
+            "import",
+            "x.csv",
+            "--project",
+            "P",
+            "--author",
+            "Crew B",
+        ]);
+        assert_eq!(who.as_deref(), Some("Crew B"), "old scripts keep working");
     }
 
     #[test]

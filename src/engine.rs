@@ -115,7 +115,7 @@ impl Property {
             Property::Tenacity => "Tenacity",
             Property::Hardness => "Hardness",
             Property::Colour => "Colour",
-            Property::Luster => "Luster",
+            Property::Luster => "Lustre",
             Property::Habit => "Habit",
             Property::Feel => "Feel",
             Property::WetBehaviour => "With a drop of water",

@@ -27,7 +27,7 @@ async fn main() -> std::process::ExitCode {
             file,
             project,
             dry_run,
-            author,
+            changed_by,
             scheme,
             name,
         } => match basal::cli::import_new(
@@ -39,7 +39,7 @@ async fn main() -> std::process::ExitCode {
                 code_scheme: scheme,
             },
             dry_run,
-            author.as_deref(),
+            changed_by.as_deref(),
         )
         .await
         {

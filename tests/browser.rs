@@ -345,12 +345,29 @@ fn browser_prerequisites() -> Option<String> {
 /// browser. The script is injected over WebDriver (Chromium runs it
 /// whatever the page's `script-src 'none'` says); the service never serves
 /// it.
+///
+/// Each page is also laid out at a phone's width (390 CSS pixels): none
+/// may scroll sideways (`scrollWidth <= innerWidth`), and a screenshot of
+/// each is kept at both widths in target/screenshots.
+/// The sample code the audit saves: 48 characters without a space.
+const LONG_CODE: &str = "AXE-0001-RIDGECUT3-NORTHFACE-LOWERBENCH-BLOCK-07";
+
 async fn every_page_passes_axe(c: &Client, base: &str, axe: &str) {
     let mut failures = Vec::new();
+    let mut too_wide = Vec::new();
     let mut audited = Vec::new();
+    let shots = screenshot_dir();
     let mut audit_here = async |c: &Client, label: &str| {
         let found = axe_violations(c, axe).await;
         audited.push(format!("{label} ({})", current_path(c).await));
+        let name: String = label
+            .chars()
+            .map(|ch| if ch.is_ascii_alphanumeric() { ch } else { '-' })
+            .collect();
+        screenshot(c, &shots, &format!("page-{name}")).await;
+        if let Some(wide) = wider_than_a_phone(c, &shots, &name).await {
+            too_wide.push(format!("{label} at {}: {wide}", current_path(c).await));
+        }
         if !found.is_empty() {
             failures.push(format!(
                 "{label} at {}:\n{}",
@@ -381,15 +398,24 @@ async fn every_page_passes_axe(c: &Client, base: &str, axe: &str) {
         current_path(c).await
     );
     audit_here(c, "results").await;
+    let results = current_path(c).await;
+    goto(c, &format!("{base}{}", results.replace("/results", "/all"))).await;
+    audit_here(c, "the one-form page").await;
+    goto(c, &format!("{base}/identify/drafts")).await;
+    audit_here(c, "/identify/drafts").await;
 
     goto(c, &format!("{base}/minerals")).await;
     audit_here(c, "/minerals").await;
     goto(c, &format!("{base}/minerals/chlorite")).await;
     audit_here(c, "a mineral page").await;
+    goto(c, &format!("{base}/minerals/chrysotile")).await;
+    audit_here(c, "an asbestos mineral page").await;
 
     goto(c, &format!("{base}/samples/new")).await;
     audit_here(c, "the new-sample form").await;
-    // An invented sample code, to reach a record page.
+    // An invented sample code, to reach a record page: a long one with no
+    // break in it, so the phone-width check sees it wrap on the record
+    // page and in the log.
     let code = c
         .find(Locator::Css(r#"input[name="sample_code"]"#))
         .await
@@ -397,7 +423,7 @@ async fn every_page_passes_axe(c: &Client, base: &str, axe: &str) {
     code.clear()
         .await
         .expect("the suggested code can be cleared");
-    code.send_keys("AXE-0001")
+    code.send_keys(LONG_CODE)
         .await
         .expect("a sample code can be typed");
     click_and_wait_for_next_page(c, "form.sample-form .actions button[type=submit]").await;
@@ -407,6 +433,9 @@ async fn every_page_passes_axe(c: &Client, base: &str, axe: &str) {
         page_text(c).await
     );
     audit_here(c, "a record page").await;
+    let record = current_path(c).await;
+    goto(c, &format!("{base}{record}/edit")).await;
+    audit_here(c, "the edit form").await;
 
     goto(c, &format!("{base}/samples")).await;
     audit_here(c, "/samples").await;
@@ -425,6 +454,42 @@ async fn every_page_passes_axe(c: &Client, base: &str, axe: &str) {
         "axe-core found accessibility violations:\n{}",
         failures.join("\n")
     );
+    assert!(
+        too_wide.is_empty(),
+        "pages that scroll sideways at 390 px:\n{}",
+        too_wide.join("\n")
+    );
+}
+
+/// Lays the current page out at 390 x 844 CSS pixels, keeps a screenshot,
+/// and says how far it scrolls sideways (None when it does not), naming
+/// the widest elements that stick out; then restores the desktop size.
+async fn wider_than_a_phone(c: &Client, shots: &Path, name: &str) -> Option<String> {
+    c.set_window_size(390, 844)
+        .await
+        .expect("the window can be resized to phone width");
+    let measured = c
+        .execute(
+            r#"const inner = window.innerWidth;
+               const scroll = document.documentElement.scrollWidth;
+               if (scroll <= inner) { return null; }
+               const out = [];
+               for (const el of document.querySelectorAll("body *")) {
+                 const r = el.getBoundingClientRect();
+                 if (r.right > inner + 0.5) {
+                   out.push(el.tagName.toLowerCase() + (el.className ? "." + String(el.className).trim().replace(/\s+/g, ".") : "") + " right=" + Math.round(r.right));
+                 }
+               }
+               return "scrollWidth " + scroll + " > innerWidth " + inner + "; sticking out: " + out.slice(0, 8).join(", ");"#,
+            Vec::new(),
+        )
+        .await
+        .expect("the page's widths can be read through WebDriver");
+    screenshot(c, shots, &format!("phone-{name}")).await;
+    c.set_window_size(1280, 800)
+        .await
+        .expect("the window can be resized back");
+    measured.as_str().map(str::to_string)
 }
 
 /// Injects axe-core into the current page, runs it, and returns one line
@@ -512,7 +577,7 @@ async fn the_exports_download_and_parse(c: &Client, base: &str) {
                     .collect::<Result<_, _>>()
                     .expect("every CSV row parses");
                 assert!(
-                    rows.iter().any(|r| r.iter().any(|f| f == "AXE-0001")),
+                    rows.iter().any(|r| r.iter().any(|f| f == LONG_CODE)),
                     "the CSV lacks the sample saved in the browser"
                 );
             }

@@ -18,7 +18,7 @@ pub const CAUTION_THRESHOLD: f64 = 0.05;
 pub const ASBESTOS: &str = "This specimen may be asbestiform (fibrous serpentine, chrysotile, is an asbestos mineral). \
 Do not break, scrape, grind or saw it dry, and do not blow on it. Wet it, seal it in a labelled bag, and wash your hands. \
 Collecting, transport, storage and disposal follow local regulations; confirming asbestos is laboratory work \
-(polarized-light or electron microscopy) for an accredited laboratory, and removal is for licensed practitioners.";
+(polarised-light or electron microscopy) for an accredited laboratory, and removal is for licensed practitioners.";
 
 /// Text of the acid caution.
 pub const ACID: &str = "Dilute hydrochloric acid burns eyes and skin: wear eye protection and gloves, use one drop at a time \

@@ -65,7 +65,7 @@ fn valid_id(id: &str) -> bool {
 async fn load(st: &AppState, id: &str) -> PageResult<Draft> {
     let missing = || {
         PageError::NotFound(format!(
-            "There is no open identification {id}: it may have been discarded. The list of unfinished ones is at /identify/drafts."
+            "There is no unfinished identification {id}: it may have been discarded. Unfinished identifications are listed at /identify/drafts."
         ))
     };
     if !valid_id(id) {
@@ -390,7 +390,7 @@ fn all_page(
     errors: &FieldMessages,
 ) -> AllPage {
     AllPage {
-        title: "Enter every observation",
+        title: "Every observation on one form",
         base_version: st.engine.base().version.clone(),
         csrf: csrf.0.clone(),
         draft_id: d.id.clone(),
@@ -493,8 +493,8 @@ pub struct NoHandView {
 #[derive(Template, WebTemplate)]
 #[template(path = "results.html")]
 pub struct ResultsPage {
-    /// Page title.
-    pub title: &'static str,
+    /// Page title: the leader with its probability and the draft.
+    pub title: String,
     /// Base version for the footer.
     pub base_version: String,
     /// Anti-forgery token (the discard form).
@@ -662,7 +662,7 @@ async fn results(
         settings: (setting_of(&n.first), setting_of(&n.second)),
     });
     Ok(ResultsPage {
-        title: "Results",
+        title: results_title(&views_all, &d.id),
         base_version: base.version.clone(),
         csrf: csrf.0.clone(),
         draft_id: d.id.clone(),
@@ -697,6 +697,17 @@ async fn results(
 }
 
 /// `POST /identify/{id}/discard`.
+/// The results page's title: the leading candidate with its probability,
+/// then the identification (the start of its id), so tabs and the browser
+/// history tell several identifications apart.
+fn results_title(top: &[CandidateView], draft: &str) -> String {
+    let short: String = draft.chars().take(8).collect();
+    match top.first() {
+        Some(c) => format!("{} {} · identification {short}…", c.bar.name, c.bar.percent),
+        None => format!("Identification {short}…"),
+    }
+}
+
 async fn discard(
     State(st): State<AppState>,
     Extension(csrf): Extension<CsrfToken>,
@@ -707,7 +718,7 @@ async fn discard(
     csrf::verify(&csrf, form.get(csrf::FIELD))?;
     if !valid_id(&draft) || !drafts::discard(&st.db, &draft).await? {
         return Err(PageError::NotFound(format!(
-            "There is no open identification {draft} to discard."
+            "There is no unfinished identification {draft} to discard."
         )));
     }
     Ok(Redirect::to("/identify/drafts").into_response())

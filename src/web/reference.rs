@@ -93,8 +93,9 @@ pub struct ListRow {
     pub hardness: String,
     /// Specific-gravity range.
     pub specific_gravity: String,
-    /// Hazard labels (empty when none).
-    pub hazards: Vec<&'static str>,
+    /// Hazards (empty when none): the label and the contract code (the
+    /// CSS class `hazard-{code}`).
+    pub hazards: Vec<(&'static str, &'static str)>,
     /// Whether the name stands for a series or group.
     pub is_series: bool,
 }
@@ -142,7 +143,7 @@ impl MineralsPage {
                             formula: e.formula.clone(),
                             hardness,
                             specific_gravity,
-                            hazards: e.hazards.iter().map(|h| h.label()).collect(),
+                            hazards: e.hazards.iter().map(|&h| hazard_tag(h)).collect(),
                             is_series: !e.series.trim().is_empty(),
                         }
                     })
@@ -173,6 +174,8 @@ pub struct CautionView {
     pub heading: &'static str,
     /// What to do, in plain words (the engine's caution text).
     pub text: &'static str,
+    /// The contract code (the CSS class `hazard-{code}`).
+    pub code: &'static str,
 }
 
 /// One scored property of the entry.
@@ -362,15 +365,25 @@ pub struct MineralPage {
     pub hows: Vec<HowView>,
 }
 
+/// A hazard's tag in the mineral list: the same name as its caution box.
+fn hazard_tag(h: Hazard) -> (&'static str, &'static str) {
+    match h {
+        Hazard::Asbestos => (crate::web::views::ASBESTOS_HEADING, "asbestos"),
+        Hazard::Dust => (crate::web::views::DUST_HEADING, "dust"),
+    }
+}
+
 fn caution_for(h: Hazard) -> CautionView {
     match h {
         Hazard::Asbestos => CautionView {
-            heading: "Caution: asbestos mineral",
+            heading: crate::web::views::ASBESTOS_HEADING,
             text: cautions::ASBESTOS,
+            code: "asbestos",
         },
         Hazard::Dust => CautionView {
-            heading: "Caution: fine dust",
+            heading: crate::web::views::DUST_HEADING,
             text: cautions::DUST,
+            code: "dust",
         },
     }
 }

@@ -256,7 +256,7 @@ async fn read(State(st): State<AppState>, Path(id): Path<String>) -> Result<Json
         return Err(ApiError::NotFound(FieldError::new(
             "id",
             format!(
-                "sample {id} was deleted at {}; it can be restored with POST /api/v1/samples/{id}/restore, and its history is at /api/v1/samples/{id}/revisions",
+                "sample {id} was deleted at {}; it can be restored with POST /api/v1/samples/{id}/restore, and its revisions are at /api/v1/samples/{id}/revisions",
                 rec.deleted_at.as_deref().unwrap_or("an earlier time")
             ),
         )));

@@ -1,4 +1,4 @@
-//! The sample log's pages: the history (filtered, newest first, keyset
+//! The sample log's pages: the log (filtered, newest first, keyset
 //! pages), the new-sample form (optionally carrying a finished
 //! identification's observations), the record with its identification
 //! snapshot and full history, the edit form with optimistic concurrency,
@@ -45,7 +45,7 @@ const MAX_AUTHOR: usize = 200;
 /// Routes of the sample pages.
 pub fn router() -> Router<AppState> {
     Router::new()
-        .route("/samples", get(history).post(create))
+        .route("/samples", get(log_page).post(create))
         .route("/samples/new", get(new_form))
         .route("/samples/{id}", get(record))
         .route("/samples/{id}/edit", get(edit_form).post(edit))
@@ -1076,7 +1076,7 @@ pub struct ChangeView {
     pub new: String,
 }
 
-/// One revision in the history.
+/// One revision of a record.
 pub struct RevisionView {
     /// Revision number.
     pub revision: i64,
@@ -1195,7 +1195,7 @@ pub struct RecordPage {
     /// Last change.
     pub updated: String,
     /// Every revision, newest first.
-    pub history: Vec<RevisionView>,
+    pub revisions: Vec<RevisionView>,
 }
 
 /// `GET /samples/{id}`.
@@ -1225,7 +1225,7 @@ async fn record(
         deleted_on: rec.deleted_at.as_deref().map(|t| when(&st, t)),
         created: when(&st, &rec.created_at),
         updated: when(&st, &rec.updated_at),
-        history: history_views(&st, &revs),
+        revisions: history_views(&st, &revs),
         id: rec.id,
     })
 }
@@ -1286,7 +1286,7 @@ async fn edit_page(
 async fn from_draft(st: &AppState, draft: &str, v: &mut Typed) -> PageResult<()> {
     let missing = || {
         PageError::NotFound(format!(
-            "There is no identification {draft} to take the observations from: it may have been discarded. Open drafts are listed at /identify/drafts."
+            "There is no identification {draft} to take the observations from: it may have been discarded. Unfinished identifications are listed at /identify/drafts."
         ))
     };
     if uuid::Uuid::try_parse(draft).is_err() {
@@ -1543,10 +1543,10 @@ async fn restore(
 }
 
 // ---------------------------------------------------------------------------
-// The history page
+// The sample log page
 // ---------------------------------------------------------------------------
 
-/// The history's filter form as typed.
+/// The log's filter form as typed.
 #[derive(Clone, Debug, Default)]
 pub struct FilterTyped {
     /// Project code.
@@ -1599,7 +1599,7 @@ fn filter_query(f: &Filter) -> String {
     s.finish()
 }
 
-/// A row of the history.
+/// A row of the log.
 pub struct SampleLine {
     /// UUID.
     pub id: String,
@@ -1644,10 +1644,10 @@ fn line(st: &AppState, r: &db::SampleRecord<db::Leader>) -> SampleLine {
     }
 }
 
-/// The history page.
+/// The sample log page (`GET /samples`).
 #[derive(Template, WebTemplate)]
 #[template(path = "samples.html")]
-pub struct HistoryPage {
+pub struct LogPage {
     /// Page title.
     pub title: &'static str,
     /// Base version for the footer.
@@ -1674,7 +1674,7 @@ pub struct HistoryPage {
     pub filtered: bool,
 }
 
-impl HistoryPage {
+impl LogPage {
     /// The message beside a filter field, if any.
     pub fn err(&self, field: &str) -> Option<&str> {
         self.errors.get(field).map(String::as_str)
@@ -1703,7 +1703,7 @@ impl HistoryPage {
 /// `GET /samples?project=&field_id=&collector=&setting=&from=&to=&q=&limit=&cursor=`:
 /// newest first, one keyset page at a time; a bad filter is a 422 page with
 /// the message beside the field.
-async fn history(State(st): State<AppState>, RawQuery(raw): RawQuery) -> PageResult<Response> {
+async fn log_page(State(st): State<AppState>, RawQuery(raw): RawQuery) -> PageResult<Response> {
     let f = FilterTyped::from_query(raw.as_deref());
     let parsed = parse_query(raw.as_deref()).and_then(|q| match (&q.filter.from, &q.filter.to) {
         (Some(a), Some(b)) if a > b => Err(FieldError::new(
@@ -1713,7 +1713,7 @@ async fn history(State(st): State<AppState>, RawQuery(raw): RawQuery) -> PageRes
         _ => Ok(q),
     });
     let projects = db::projects(&st.db).await?;
-    let mut page = HistoryPage {
+    let mut page = LogPage {
         title: "Sample log",
         base_version: base_version(&st),
         projects: project_options(&projects, &f.project),

@@ -185,15 +185,22 @@ pub struct CautionView {
     pub message: String,
 }
 
+/// The one name of the asbestos hazard, on results, the question side
+/// panel, the record page, the mineral pages and the mineral list.
+pub const ASBESTOS_HEADING: &str = "Asbestos mineral";
+
+/// The one name of the fine-dust hazard (results and mineral pages).
+pub const DUST_HEADING: &str = "Fine dust";
+
 /// The cautions of an identification.
 pub fn cautions(id: &Identification) -> Vec<CautionView> {
     id.cautions
         .iter()
         .map(|c| {
             let (heading, code) = match c.code {
-                CautionCode::Asbestos => ("Possible asbestos", "asbestos"),
+                CautionCode::Asbestos => (ASBESTOS_HEADING, "asbestos"),
                 CautionCode::Acid => ("Acid", "acid"),
-                CautionCode::Dust => ("Dust", "dust"),
+                CautionCode::Dust => (DUST_HEADING, "dust"),
             };
             CautionView {
                 heading,
@@ -275,7 +282,7 @@ pub fn question_sentence(p: Property) -> &'static str {
         Property::Feel => "How does it feel between the fingers?",
         Property::WetBehaviour => "What does a pinch do with a drop of water?",
         Property::Streak => "What colour is its streak?",
-        Property::Diaphaneity => "Does light pass through a thin flake?",
+        Property::Diaphaneity => "Does light pass through a thin edge?",
         Property::SpecificGravity => "How heavy is it for its size?",
         Property::Magnetic => "Does a hand magnet pull it?",
         Property::AcidReaction => "Does it fizz in dilute acid?",

@@ -104,7 +104,7 @@ async fn the_start_form_creates_the_draft_with_its_first_answer() {
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(r.text().contains("value=\"soft\""));
     assert_eq!(draft_rows(&app).await, 1);
-    // "Enter everything at once" from the start page is a POST too.
+    // "Every observation on one form" from the start page is a POST too.
     let r = s.submit("/identify", "then=all").await;
     assert_eq!(r.status, StatusCode::SEE_OTHER);
     assert!(r.location().ends_with("/all"), "{}", r.location());

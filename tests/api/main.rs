@@ -8,6 +8,7 @@ mod helpers;
 mod identify;
 mod log_admin;
 mod minerals;
+mod names;
 mod reference_pages;
 mod sample_pages;
 mod samples;

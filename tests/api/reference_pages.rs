@@ -115,8 +115,12 @@ async fn the_list_page_links_every_entry_of_the_base() {
         "{}",
         sheet.citation
     );
-    // Chrysotile is tagged with its hazard in the list.
-    assert!(body.contains("asbestiform fibres"));
+    // Chrysotile is tagged with its hazard in the list, under the one name
+    // and class the results and mineral pages use.
+    assert!(
+        body.contains(r#"<span class="tag tag-hazard hazard-asbestos">Asbestos mineral</span>"#)
+    );
+    assert!(!body.contains("asbestiform fibres"));
 }
 
 #[tokio::test]
@@ -166,8 +170,9 @@ async fn a_mineral_page_shows_formula_composition_sources_and_lookalikes() {
     assert!(body.contains(r#"<a href="/minerals/pyrophyllite">Pyrophyllite</a>"#));
     assert!(body.contains("Nearest lookalikes"));
     // Talc carries the dust caution, not the asbestos one.
-    assert!(body.contains("Caution: fine dust"));
-    assert!(!body.contains("Caution: asbestos"));
+    assert!(body.contains(r#"<aside class="caution hazard-dust""#));
+    assert!(body.contains("Fine dust</h2>"));
+    assert!(!body.contains("hazard-asbestos"));
 }
 
 #[tokio::test]
@@ -227,8 +232,9 @@ async fn chrysotile_shows_the_asbestos_caution() {
     // Assert
     assert_eq!(r.status, StatusCode::OK);
     let body = r.text();
-    assert!(body.contains(r#"<aside class="caution""#));
-    assert!(body.contains("Caution: asbestos mineral"));
+    assert!(body.contains(r#"<aside class="caution hazard-asbestos""#));
+    assert!(body.contains("Asbestos mineral"));
+    assert!(!body.contains("Caution: asbestos mineral"));
     for words in [
         "Do not break, scrape, grind or saw it dry",
         "Wet it, seal it in a labelled bag",
@@ -238,7 +244,7 @@ async fn chrysotile_shows_the_asbestos_caution() {
         assert!(body.contains(words), "caution lacks {words:?}");
     }
     // The caution comes before the properties.
-    let caution = body.find("Caution: asbestos").unwrap_or(usize::MAX);
+    let caution = body.find("Asbestos mineral</h2>").unwrap_or(usize::MAX);
     let props = body.find("id=\"properties\"").unwrap_or(0);
     assert!(caution < props);
 }
