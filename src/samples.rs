@@ -548,8 +548,9 @@ pub fn describe_char(c: char) -> String {
 }
 
 /// Checks that `s` holds no character that [`forbidden_char`] refuses; the
-/// message names the character as U+XXXX and says what is allowed. Used for
-/// every text a person types into the log (API, forms, import, projects).
+/// message names the character by its code point (U+202E, say) and says
+/// what is allowed. Used for every text a person types into the log (API,
+/// forms, import, projects).
 pub fn check_text(field: &str, s: &str, lines: Lines) -> Result<(), FieldError> {
     match forbidden_char(s, lines) {
         None => Ok(()),

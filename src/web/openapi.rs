@@ -560,7 +560,7 @@ fn operations() -> Value {
                 "operationId": "sampleRevisions",
                 "summary": "Every state of the record, oldest first.",
                 "parameters": [id_param("The record's UUID.")],
-                "responses": { "200": ok("The history.", schema_ref("RevisionList")), "404": no_sample }
+                "responses": { "200": ok("The record's revisions.", schema_ref("RevisionList")), "404": no_sample }
             }
         },
         "/api/v1/samples/{id}/restore": {
