@@ -785,7 +785,7 @@ async fn list(
                 );
             DraftLine {
                 id: d.id.clone(),
-                updated_at: d.updated_at.replace('T', " ").chars().take(16).collect(),
+                updated_at: super::samples_pages::local_time(&st.config.time_zone, &d.updated_at),
                 answers: Property::ALL
                     .iter()
                     .filter(|p| p.is_observed(&d.observations))

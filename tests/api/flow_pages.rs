@@ -166,6 +166,29 @@ async fn drafts_with_nothing_observed_are_not_listed() {
 }
 
 #[tokio::test]
+async fn the_unfinished_list_shows_times_in_the_configured_zone_with_the_offset() {
+    // Asia/Kolkata is UTC+05:30 all year (IANA), whatever day this runs.
+    let app = TestApp::with_config(|c| {
+        c.time_zone = jiff::tz::TimeZone::get("Asia/Kolkata").expect("zone");
+    })
+    .await;
+    let mut s = Session::new(&app);
+    let draft = started(&mut s).await;
+    s.submit(&format!("/identify/{draft}"), "question=habit&habit=books")
+        .await;
+    let list = s.get("/identify/drafts").await.text();
+    assert!(list.contains(&format!("/identify/{draft}\"")), "{list}");
+    assert!(
+        list.contains(" +05:30"),
+        "no offset beside the time: {list}"
+    );
+    assert!(
+        !list.contains("UTC"),
+        "times are no longer shown in UTC: {list}"
+    );
+}
+
+#[tokio::test]
 async fn a_draft_saved_as_a_sample_links_to_it_on_the_list() {
     let app = TestApp::new().await;
     let mut s = Session::new(&app);
